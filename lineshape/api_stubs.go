@@ -1,0 +1,126 @@
+package lineshape
+
+// This file lists the operations other packages build on, with their
+// contract. Bodies that panic("lineshape: not implemented") are being
+// written; the owner of package lineshape replaces each stub by moving it
+// into its own file (resample.go, savgol.go, lockin.go, ...) and deletes
+// this file when it is empty.
+
+// Curve is a prepared interpolant over a spectrum's samples, used for
+// resampling and sub-channel shifting. It is a monotone piecewise cubic
+// (Fritsch-Butland, gonum.org/v1/gonum/interp), which does not overshoot
+// between samples.
+type Curve struct {
+	lo, hi float64
+	impl   interface{ Predict(float64) float64 }
+}
+
+// Curve returns the interpolant over s.
+func (s *Spectrum) Curve() *Curve { panic("lineshape: not implemented") }
+
+// Lo and Hi return the energy range the curve covers.
+func (c *Curve) Lo() float64 { return c.lo }
+
+// Hi returns the highest energy the curve covers.
+func (c *Curve) Hi() float64 { return c.hi }
+
+// At returns the interpolated value at energy e (eV). Outside [Lo, Hi] it
+// returns the nearest end value.
+func (c *Curve) At(e float64) float64 { panic("lineshape: not implemented") }
+
+// SampleShifted fills dst[i] with the value of the curve shifted by dE, at
+// energy start + i*step: dst[i] = c.At(start + i*step - dE). A positive dE
+// moves features to higher energy. It allocates nothing.
+func (c *Curve) SampleShifted(dst []float64, start, step, dE float64) {
+	panic("lineshape: not implemented")
+}
+
+// Window returns the part of s with lo <= E <= hi. It is an error if fewer
+// than two channels remain.
+func (s *Spectrum) Window(lo, hi float64) (*Spectrum, error) { panic("lineshape: not implemented") }
+
+// Resample returns s on the uniform grid start + i*step, i < n, by the
+// Curve interpolant. It is an error if the grid reaches outside s's range
+// by more than 1e-9 eV.
+func (s *Spectrum) Resample(start, step float64, n int) (*Spectrum, error) {
+	panic("lineshape: not implemented")
+}
+
+// Shift returns s moved by dE eV on its own axis (values at E become the
+// old values at E - dE); channels that would need data from outside s's
+// range take the nearest end value.
+func (s *Spectrum) Shift(dE float64) *Spectrum { panic("lineshape: not implemented") }
+
+// SavitzkyGolay returns the convolution weights, ordered -m..+m for a window
+// of 2m+1 points, of the least-squares polynomial of degree order evaluated
+// for derivative deriv at the window centre, for unit step (divide by
+// step^deriv). Savitzky & Golay, Anal. Chem. 36 (1964) 1627, as corrected
+// by Steinier, Termonia & Deltour, Anal. Chem. 44 (1972) 1906.
+func SavitzkyGolay(window, order, deriv int) ([]float64, error) { panic("lineshape: not implemented") }
+
+// Smooth returns s smoothed by a Savitzky-Golay filter. s must be uniform.
+func (s *Spectrum) Smooth(window, order int) (*Spectrum, error) { panic("lineshape: not implemented") }
+
+// Differentiate returns the Savitzky-Golay first derivative of a direct
+// spectrum (mode Derivative, units of value per eV). s must be uniform.
+func (s *Spectrum) Differentiate(window, order int) (*Spectrum, error) {
+	panic("lineshape: not implemented")
+}
+
+// LockIn emulates lock-in detection of a direct spectrum with a sinusoidal
+// modulation of peak-to-peak amplitude k eV: the result is A1/(k/2) =
+// (N' * w)(E), w a unit-area semicircle of radius k/2, which tends to dN/dE
+// as k -> 0. s must be uniform and direct; the result has mode Derivative and
+// Meta.ModulationEV = k.
+func (s *Spectrum) LockIn(k float64) (*Spectrum, error) { panic("lineshape: not implemented") }
+
+// Integrate turns a derivative spectrum into a direct one by cumulative
+// trapezoidal integration, with the baseline chosen so the result is zero at
+// both ends (a linear term removed). s must be uniform and derivative.
+func (s *Spectrum) Integrate() (*Spectrum, error) { panic("lineshape: not implemented") }
+
+// Normalization selects how Normalize scales a spectrum.
+type Normalization int
+
+const (
+	NormNone       Normalization = iota // leave values as recorded
+	NormPeakToPeak                      // divide by max - min
+	NormArea                            // divide by the integral of |y| dE
+	NormL2                              // divide by the Euclidean norm of the values
+)
+
+// ParseNormalization parses "none", "peak-to-peak", "area" or "l2".
+func ParseNormalization(s string) (Normalization, error) { panic("lineshape: not implemented") }
+
+// String returns the name ParseNormalization accepts.
+func (n Normalization) String() string { panic("lineshape: not implemented") }
+
+// Normalize returns s divided by the scale n defines, and that scale. A
+// spectrum whose scale is zero is an error.
+func (s *Spectrum) Normalize(n Normalization) (*Spectrum, float64, error) {
+	panic("lineshape: not implemented")
+}
+
+// Extremum is a local minimum or maximum with its topographic prominence.
+type Extremum struct {
+	Index      int     `json:"index"`
+	Energy     float64 `json:"energy_ev"`
+	Value      float64 `json:"value"`
+	Prominence float64 `json:"prominence"`
+	Minimum    bool    `json:"minimum"`
+}
+
+// Features summarises a spectrum's derivative peaks.
+type Features struct {
+	Minima     []Extremum `json:"minima"`       // by energy, prominence >= the threshold
+	Maxima     []Extremum `json:"maxima"`       // by energy, prominence >= the threshold
+	PeakToPeak float64    `json:"peak_to_peak"` // max - min of the values
+	// PeakEnergy is the conventional derivative peak energy: the energy of the
+	// deepest minimum (the high-energy negative excursion of the main peak).
+	// For a direct spectrum, the energy of the highest maximum.
+	PeakEnergy float64 `json:"peak_energy_ev"`
+}
+
+// Features returns the extrema whose prominence is at least relProminence
+// times the peak-to-peak range (0 means 0.05).
+func (s *Spectrum) Features(relProminence float64) Features { panic("lineshape: not implemented") }
