@@ -8,6 +8,7 @@ import (
 	"os"
 	"os/signal"
 	"path/filepath"
+	"strings"
 	"time"
 
 	"github.com/spf13/cobra"
@@ -120,7 +121,7 @@ func exitCode(err error) int {
 		return exitOK
 	}
 	var ue *usageError
-	if errors.As(err, &ue) {
+	if errors.As(err, &ue) || isCobraUsage(err) {
 		return exitUsage
 	}
 	var ie *inputError
@@ -164,6 +165,27 @@ func (a *App) Execute(args []string) int {
 		fmt.Fprintln(a.Err, "statemix:", err)
 	}
 	return exitCode(err)
+}
+
+// cobraUsagePrefixes are the beginnings of the messages cobra returns for
+// command-line mistakes it detects itself (argument counts, unknown
+// commands, required or exclusive flags).
+var cobraUsagePrefixes = []string{
+	"unknown command", "unknown flag", "unknown shorthand flag", "accepts ", "requires at least",
+	"requires at most", "received ", "required flag(s)", "invalid argument",
+	"if any flags in the group", "at least one of the flags", "flag needs an argument",
+	"invalid command",
+}
+
+// isCobraUsage reports whether err is one of cobra's own usage errors.
+func isCobraUsage(err error) bool {
+	msg := err.Error()
+	for _, p := range cobraUsagePrefixes {
+		if strings.HasPrefix(msg, p) {
+			return true
+		}
+	}
+	return false
 }
 
 // flagUsage turns cobra's flag parsing errors into usage errors.
