@@ -6,51 +6,6 @@ package lineshape
 // into its own file (resample.go, savgol.go, lockin.go, ...) and deletes
 // this file when it is empty.
 
-// Curve is a prepared interpolant over a spectrum's samples, used for
-// resampling and sub-channel shifting. It is a monotone piecewise cubic
-// (Fritsch-Butland, gonum.org/v1/gonum/interp), which does not overshoot
-// between samples.
-type Curve struct {
-	lo, hi float64
-	impl   interface{ Predict(float64) float64 }
-}
-
-// Curve returns the interpolant over s.
-func (s *Spectrum) Curve() *Curve { panic("lineshape: not implemented") }
-
-// Lo and Hi return the energy range the curve covers.
-func (c *Curve) Lo() float64 { return c.lo }
-
-// Hi returns the highest energy the curve covers.
-func (c *Curve) Hi() float64 { return c.hi }
-
-// At returns the interpolated value at energy e (eV). Outside [Lo, Hi] it
-// returns the nearest end value.
-func (c *Curve) At(e float64) float64 { panic("lineshape: not implemented") }
-
-// SampleShifted fills dst[i] with the value of the curve shifted by dE, at
-// energy start + i*step: dst[i] = c.At(start + i*step - dE). A positive dE
-// moves features to higher energy. It allocates nothing.
-func (c *Curve) SampleShifted(dst []float64, start, step, dE float64) {
-	panic("lineshape: not implemented")
-}
-
-// Window returns the part of s with lo <= E <= hi. It is an error if fewer
-// than two channels remain.
-func (s *Spectrum) Window(lo, hi float64) (*Spectrum, error) { panic("lineshape: not implemented") }
-
-// Resample returns s on the uniform grid start + i*step, i < n, by the
-// Curve interpolant. It is an error if the grid reaches outside s's range
-// by more than 1e-9 eV.
-func (s *Spectrum) Resample(start, step float64, n int) (*Spectrum, error) {
-	panic("lineshape: not implemented")
-}
-
-// Shift returns s moved by dE eV on its own axis (values at E become the
-// old values at E - dE); channels that would need data from outside s's
-// range take the nearest end value.
-func (s *Spectrum) Shift(dE float64) *Spectrum { panic("lineshape: not implemented") }
-
 // SavitzkyGolay returns the convolution weights, ordered -m..+m for a window
 // of 2m+1 points, of the least-squares polynomial of degree order evaluated
 // for derivative deriv at the window centre, for unit step (divide by
