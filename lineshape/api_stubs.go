@@ -6,22 +6,6 @@ package lineshape
 // into its own file (resample.go, savgol.go, lockin.go, ...) and deletes
 // this file when it is empty.
 
-// SavitzkyGolay returns the convolution weights, ordered -m..+m for a window
-// of 2m+1 points, of the least-squares polynomial of degree order evaluated
-// for derivative deriv at the window centre, for unit step (divide by
-// step^deriv). Savitzky & Golay, Anal. Chem. 36 (1964) 1627, as corrected
-// by Steinier, Termonia & Deltour, Anal. Chem. 44 (1972) 1906.
-func SavitzkyGolay(window, order, deriv int) ([]float64, error) { panic("lineshape: not implemented") }
-
-// Smooth returns s smoothed by a Savitzky-Golay filter. s must be uniform.
-func (s *Spectrum) Smooth(window, order int) (*Spectrum, error) { panic("lineshape: not implemented") }
-
-// Differentiate returns the Savitzky-Golay first derivative of a direct
-// spectrum (mode Derivative, units of value per eV). s must be uniform.
-func (s *Spectrum) Differentiate(window, order int) (*Spectrum, error) {
-	panic("lineshape: not implemented")
-}
-
 // LockIn emulates lock-in detection of a direct spectrum with a sinusoidal
 // modulation of peak-to-peak amplitude k eV: the result is A1/(k/2) =
 // (N' * w)(E), w a unit-area semicircle of radius k/2, which tends to dN/dE
