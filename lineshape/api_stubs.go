@@ -6,18 +6,6 @@ package lineshape
 // into its own file (resample.go, savgol.go, lockin.go, ...) and deletes
 // this file when it is empty.
 
-// LockIn emulates lock-in detection of a direct spectrum with a sinusoidal
-// modulation of peak-to-peak amplitude k eV: the result is A1/(k/2) =
-// (N' * w)(E), w a unit-area semicircle of radius k/2, which tends to dN/dE
-// as k -> 0. s must be uniform and direct; the result has mode Derivative and
-// Meta.ModulationEV = k.
-func (s *Spectrum) LockIn(k float64) (*Spectrum, error) { panic("lineshape: not implemented") }
-
-// Integrate turns a derivative spectrum into a direct one by cumulative
-// trapezoidal integration, with the baseline chosen so the result is zero at
-// both ends (a linear term removed). s must be uniform and derivative.
-func (s *Spectrum) Integrate() (*Spectrum, error) { panic("lineshape: not implemented") }
-
 // Normalization selects how Normalize scales a spectrum.
 type Normalization int
 
