@@ -1,0 +1,51 @@
+// Package library is the lab's own collection of reference spectra and
+// archived measurements, kept on disk as plain JSON files.
+//
+// # Layout
+//
+// A library is a folder:
+//
+//	<library>/library.json     manifest {"format":"statemix-library","version":1,"revision":N,...}
+//	<library>/refs/<id>.json   one reference: metadata and spectrum
+//	<library>/runs/<id>.json   one archived measurement and its fit result
+//	<library>/index/           owned by package index; library never writes it
+//	<library>/.lock            writer lock (flock), holds the holder's PID
+//
+// The JSON entry files are the truth. Every value written round trips
+// bit-identically: float64 values are written by encoding/json in the
+// shortest form that parses back to the same bits.
+//
+// # Identity
+//
+// An entry's ID is the first 12 hexadecimal digits of a SHA-256 digest over
+// the entry's kind, the spectrum's mode, its energy axis and its values (as
+// IEEE 754 bit patterns), and, for measurements, the compacted fit result
+// (see [ComputeID]). Labels (name, element, transition, state, compound,
+// tags, note, quantification fields, acquisition conditions) are not part of
+// the ID, so correcting a label never changes an entry's address. An entry
+// is addressed by its ID, a unique ID prefix of at least 4 characters, or
+// its unique name ([Store.Resolve]).
+//
+// # Safety
+//
+// Every write goes to a temporary file in the destination folder, is
+// fsynced, renamed into place, and the folder is fsynced. Writers take an
+// exclusive flock on <library>/.lock, waiting at most [Store.LockTimeout];
+// a writer that times out names the holder's PID. Readers take no lock:
+// they see each file either before or after a write. A corrupt entry file
+// is reported by name by [Store.Entries] and [VerifyDir] and never stops
+// the rest of the library from working.
+//
+// # Revisions and the index
+//
+// Each write operation (Add, Edit, Remove, Import, a repair) raises the
+// manifest revision by one and records what changed in a bounded change
+// log ([Store.ChangesSince]). Package index reads entries and keeps its own
+// files in [Store.IndexDir]; the command layer tells it what changed after
+// each write, and [VerifyOptions.CheckIndex] lets verify check it.
+//
+// # Units
+//
+// Energies are kinetic energies in eV, beam energy in keV, beam current in
+// nA, dwell in s, density in g/cm3, band gap in eV.
+package library

@@ -1,0 +1,249 @@
+package library
+
+import (
+	"errors"
+	"fmt"
+	"io/fs"
+	"os"
+	"path/filepath"
+	"sort"
+	"strings"
+	"time"
+)
+
+// Problem is one thing verify found wrong.
+type Problem struct {
+	Path     string `json:"path"`     // file concerned, relative to the library folder
+	Code     string `json:"code"`     // one of the Problem codes
+	Message  string `json:"message"`  // what is wrong and what to do
+	Repaired bool   `json:"repaired"` // true if --repair fixed it
+}
+
+// Problem codes.
+const (
+	ProblemManifest = "manifest" // library.json missing or unreadable
+	ProblemJSON     = "json"     // an entry file is not valid JSON
+	ProblemSchema   = "schema"   // an entry file lacks or misnames fields
+	ProblemHash     = "hash"     // an entry's content does not hash to its id
+	ProblemName     = "name"     // two entries share a name
+	ProblemRevision = "revision" // the manifest revision is behind an entry's
+	ProblemLeftover = "leftover" // a temporary file left by an interrupted write
+	ProblemStray    = "stray"    // a file that does not belong in the folder
+	ProblemIndex    = "index"    // the index disagrees with the entries
+)
+
+// Report is what verify found.
+type Report struct {
+	Revision int       `json:"revision"` // manifest revision after any repair
+	Entries  int       `json:"entries"`  // entry files that read cleanly
+	Problems []Problem `json:"problems"`
+}
+
+// OK reports whether nothing is left wrong (every problem was repaired).
+func (r *Report) OK() bool {
+	for _, p := range r.Problems {
+		if !p.Repaired {
+			return false
+		}
+	}
+	return true
+}
+
+// IndexChecker checks derived data (the index) against the entries at a
+// revision; with repair it should fix what it can (rebuild) and mark those
+// problems Repaired. Package index provides one; library does not know it.
+type IndexChecker func(entries []*Entry, revision int, repair bool) ([]Problem, error)
+
+// VerifyOptions configures VerifyDir. The zero value checks without
+// repairing and without an index check.
+type VerifyOptions struct {
+	// Repair fixes what can be fixed without guessing: removes leftover
+	// temporary files, raises a manifest revision that lags an entry
+	// written by an interrupted operation, rebuilds a missing or unreadable
+	// manifest from the entries, and lets CheckIndex rebuild. Entry files
+	// that are corrupt or altered are reported, never changed.
+	Repair bool
+	// CheckIndex, if not nil, is called with the clean entries.
+	CheckIndex IndexChecker
+	// LockTimeout is how long a repair waits for the writer lock (VerifyDir
+	// only; Store.Verify uses the store's). If it is 0, it defaults to
+	// DefaultLockTimeout.
+	LockTimeout time.Duration
+}
+
+// Verify checks the store's library; see VerifyDir.
+func (s *Store) Verify(opts VerifyOptions) (*Report, error) {
+	rep, err := verifyDir(s.dir, opts, s)
+	if err == nil {
+		s.Reload()
+	}
+	return rep, err
+}
+
+// VerifyDir checks every file of the library in dir: the manifest, each
+// entry's schema and hash (its id recomputed), unique names, the manifest
+// revision against the entries', and leftover temporary files; with
+// opts.CheckIndex, the index. It works on a library whose manifest is
+// missing or unreadable. A read-only verify takes no lock; a repair takes
+// the writer lock.
+func VerifyDir(dir string, opts VerifyOptions) (*Report, error) {
+	return verifyDir(dir, opts, &Store{dir: dir, LockTimeout: opts.LockTimeout})
+}
+
+func verifyDir(dir string, opts VerifyOptions, s *Store) (*Report, error) {
+	if fi, err := os.Stat(dir); err != nil || !fi.IsDir() {
+		return nil, fmt.Errorf("%s: %w", dir, ErrNotLibrary)
+	}
+	if opts.Repair {
+		lk, err := acquireLock(dir, s.lockTimeout(), s.now)
+		if err != nil {
+			return nil, err
+		}
+		defer lk.release()
+	}
+	rep := &Report{Problems: []Problem{}}
+	add := func(path, code, msg string, repaired bool) {
+		rep.Problems = append(rep.Problems, Problem{Path: path, Code: code, Message: msg, Repaired: repaired})
+	}
+	rel := func(p string) string {
+		if r, err := filepath.Rel(dir, p); err == nil {
+			return r
+		}
+		return p
+	}
+
+	// Leftover temporary files: only while no writer is at work (a read-only
+	// verify may run beside a writer).
+	writerIdle := opts.Repair || tryLockFree(dir)
+	for _, sub := range []string{".", refsDir, runsDir} {
+		des, err := os.ReadDir(filepath.Join(dir, sub))
+		if err != nil {
+			continue
+		}
+		for _, de := range des {
+			if !isTempName(de.Name()) || !writerIdle {
+				continue
+			}
+			p := filepath.Join(dir, sub, de.Name())
+			repaired := false
+			if opts.Repair {
+				if err := os.Remove(p); err == nil {
+					repaired = true
+				}
+			}
+			add(rel(p), ProblemLeftover, "temporary file left by an interrupted write; repair removes it", repaired)
+		}
+	}
+
+	// Entries.
+	var entries []*Entry
+	maxRev := 0
+	for _, sub := range []string{refsDir, runsDir} {
+		d := filepath.Join(dir, sub)
+		des, err := os.ReadDir(d)
+		if errors.Is(err, fs.ErrNotExist) {
+			add(sub, ProblemStray, fmt.Sprintf("folder %s/ is missing", sub), opts.Repair && os.MkdirAll(d, 0o755) == nil)
+			continue
+		}
+		if err != nil {
+			return nil, err
+		}
+		for _, de := range des {
+			name := de.Name()
+			p := filepath.Join(d, name)
+			if isTempName(name) {
+				continue
+			}
+			id, ok := strings.CutSuffix(name, ".json")
+			if de.IsDir() || !ok || !isID(id) {
+				add(rel(p), ProblemStray, "not an entry file (want <12 hex digits>.json); left alone", false)
+				continue
+			}
+			b, err := os.ReadFile(p)
+			if err != nil {
+				if errors.Is(err, fs.ErrNotExist) {
+					continue
+				}
+				return nil, err
+			}
+			e, err := decodeEntry(b)
+			if err != nil {
+				code := ProblemSchema
+				if strings.HasPrefix(err.Error(), "not valid JSON") {
+					code = ProblemJSON
+				}
+				add(rel(p), code, err.Error()+"; restore it from a backup or bundle, or remove it", false)
+				continue
+			}
+			if err := checkStored(e, id, sub); err != nil {
+				code := ProblemSchema
+				if strings.Contains(err.Error(), "content hash") {
+					code = ProblemHash
+				}
+				add(rel(p), code, err.Error(), false)
+				continue
+			}
+			if e.Revision > maxRev {
+				maxRev = e.Revision
+			}
+			entries = append(entries, e)
+		}
+	}
+	sortEntries(entries)
+	rep.Entries = len(entries)
+	byName := map[string][]string{}
+	for _, e := range entries {
+		byName[e.Name] = append(byName[e.Name], e.ID)
+	}
+	var dupNames []string
+	for n, ids := range byName {
+		if len(ids) > 1 {
+			dupNames = append(dupNames, n)
+		}
+	}
+	sort.Strings(dupNames)
+	for _, n := range dupNames {
+		add(manifestName, ProblemName, fmt.Sprintf("name %q is used by %s; rename one with statemix library edit ID --set name=...", n, strings.Join(byName[n], ", ")), false)
+	}
+
+	// Manifest.
+	m, merr := readManifest(dir)
+	if merr != nil {
+		repaired := false
+		if opts.Repair {
+			t := s.now().UTC()
+			m = &manifest{Format: manifestFormat, Version: manifestVersion, Revision: maxRev + 1,
+				CreatedAt: t, ModifiedAt: t, ChangesFrom: maxRev + 1}
+			if err := s.writeManifest(m); err == nil {
+				repaired = true
+			}
+		}
+		add(manifestName, ProblemManifest, merr.Error()+"; repair rebuilds it from the entries (the change log starts afresh)", repaired)
+	} else if maxRev > m.Revision {
+		var changes []Change
+		for _, e := range entries {
+			if e.Revision > m.Revision {
+				changes = append(changes, Change{Revision: maxRev, Op: OpEdit, ID: e.ID, Kind: e.Kind})
+			}
+		}
+		repaired := false
+		if opts.Repair {
+			if err := s.commit(m, maxRev, s.now().UTC(), changes); err == nil {
+				repaired = true
+			}
+		}
+		add(manifestName, ProblemRevision, fmt.Sprintf("revision %d is behind entries written at revision %d (an interrupted write); repair raises it", m.Revision, maxRev), repaired)
+	}
+	if m != nil {
+		rep.Revision = m.Revision
+	}
+
+	if opts.CheckIndex != nil {
+		ps, err := opts.CheckIndex(entries, rep.Revision, opts.Repair)
+		if err != nil {
+			return nil, fmt.Errorf("check index: %w", err)
+		}
+		rep.Problems = append(rep.Problems, ps...)
+	}
+	return rep, nil
+}
