@@ -1,0 +1,362 @@
+package fit
+
+import (
+	"context"
+	"fmt"
+	"math"
+
+	"gonum.org/v1/gonum/mat"
+
+	"statemix/lineshape"
+)
+
+// Component is one reference's share of the fit. The JSON names are those
+// of the statemix.fit/v1 schema.
+type Component struct {
+	Ref     string `json:"ref"`
+	Name    string `json:"name"`
+	Element string `json:"element"`
+	State   string `json:"state"`
+	// Coefficient multiplies the reference (as prepared: at its recorded
+	// intensity unless normalised) in the model.
+	Coefficient   float64 `json:"coefficient"`
+	CoefficientSD float64 `json:"coefficient_sd"`
+	// Fraction is Coefficient / sum of all coefficients.
+	Fraction   float64 `json:"fraction"`
+	FractionSD float64 `json:"fraction_sd"`
+	// FractionCI95 is the 95 % interval; for a component at zero it is
+	// [0, one-sided 95 % upper limit].
+	FractionCI95 [2]float64 `json:"fraction_ci95"`
+	Shift        float64    `json:"shift_ev"`
+	ShiftSD      float64    `json:"shift_sd_ev"`
+	// AtBound is true when the coefficient is at its bound, zero.
+	AtBound bool `json:"at_bound"`
+	// ShiftAtBound is true when the shift is at +/-MaxShift.
+	ShiftAtBound bool `json:"shift_at_bound,omitempty"`
+}
+
+// Quality summarises how well the model describes the data.
+type Quality struct {
+	Points int `json:"points"`
+	// DOF is Points minus the number of fitted parameters (nonzero
+	// coefficients, background terms and fitted shifts).
+	DOF int `json:"dof"`
+	// Chi2Reduced is (RSS / DOF) / NoiseSD^2.
+	Chi2Reduced float64 `json:"chi2_reduced"`
+	// RFactor is sum (y - model)^2 / sum y^2 over the window.
+	RFactor     float64 `json:"r_factor"`
+	ResidualRMS float64 `json:"residual_rms"`
+	// NoiseSD is the noise estimated from the second differences of the
+	// residual (see the package documentation).
+	NoiseSD float64 `json:"noise_sd"`
+	// CorrelationFactor is 1 + 2 sum rho_k of the residual
+	// autocorrelation, so that Points / CorrelationFactor is the effective
+	// number of independent channels.
+	CorrelationFactor float64 `json:"correlation_factor"`
+	// CorrelationLags is the number of lags summed in CorrelationFactor.
+	CorrelationLags int `json:"correlation_lags"`
+}
+
+// Curves are the data and the fitted model on the fit grid, for plotting.
+type Curves struct {
+	Energy     []float64   // eV
+	Data       []float64   // the unknown, in the fit's mode
+	Total      []float64   // the model
+	Background []float64   // the polynomial background
+	Residual   []float64   // Data - Total
+	Components [][]float64 // coefficient x shifted reference, in component order
+}
+
+// Samples holds the bootstrap replicates, one row per successful sample.
+type Samples struct {
+	Coefficients [][]float64 // [sample][component]
+	Fractions    [][]float64 // [sample][component]
+	Shifts       [][]float64 // [sample][component], eV
+	Failed       int         // samples whose refit failed
+	// Method is "block-bootstrap" or "poisson".
+	Method      string
+	BlockLength int // channels, for the block bootstrap
+}
+
+// Result is the outcome of Fit.
+type Result struct {
+	Window     [2]float64
+	Mode       lineshape.Mode
+	Modulation float64 // eV, 0 if not used or not known
+	Options    Options // resolved
+	Components []Component
+	// Background holds the coefficients of the Legendre polynomials
+	// P_0..P_deg of t = 2(E-lo)/(hi-lo) - 1 over the window.
+	Background []float64
+	Quality    Quality
+	Warnings   []string
+	Curves     Curves
+	// Covariance is the covariance of Params (coefficients of the nonzero
+	// components, background terms, fitted shifts), scaled by the residual
+	// variance and the correlation factor.
+	Covariance *mat.SymDense
+	// Params names the rows of Covariance: "c:<label>", "b:<degree>",
+	// "d:common" or "d:<label>".
+	Params []string
+	// Samples holds the bootstrap replicates (nil for Covariance).
+	Samples *Samples
+	// Uncertainty is the method the reported SDs and intervals come from.
+	Uncertainty Uncertainty
+}
+
+// Fit fits unknown, which must cover the model's window, with the model's
+// references and computes the uncertainties with the method of the
+// options. It is safe to call Fit concurrently on one Model.
+func (m *Model) Fit(ctx context.Context, unknown *lineshape.Spectrum) (*Result, error) {
+	y, err := m.values(unknown)
+	if err != nil {
+		return nil, err
+	}
+	w := m.newWorker()
+	w.setData(y)
+	sol, err := w.search()
+	if err != nil {
+		return nil, err
+	}
+	res, err := m.result(w, y, sol)
+	if err != nil {
+		return nil, err
+	}
+	if err := m.covariance(w, res, sol); err != nil {
+		return nil, err
+	}
+	if m.opts.Uncertainty == Bootstrap {
+		if err := m.bootstrap(ctx, res, unknown); err != nil {
+			return nil, err
+		}
+	}
+	sanitize(res)
+	return res, nil
+}
+
+// values returns the unknown converted to the model's mode on its grid.
+func (m *Model) values(unknown *lineshape.Spectrum) ([]float64, error) {
+	if unknown == nil {
+		panic("fit: Fit with a nil unknown")
+	}
+	label := unknown.Meta.Source
+	if label == "" {
+		label = m.unknownLabel
+	}
+	if err := unknown.Validate(); err != nil {
+		return nil, inputErr(label, "%v", err)
+	}
+	if allZero(unknown.Y) {
+		return nil, inputErr(label, "the spectrum is zero in every channel")
+	}
+	if m.mode == lineshape.Direct && unknown.Mode == lineshape.Derivative {
+		return nil, inputErr(label, "derivative spectrum given to a model prepared for direct spectra")
+	}
+	s := unknown
+	if m.lockIn > 0 && s.Mode == lineshape.Direct {
+		if !s.Axis.Uniform() {
+			n := s.Len()
+			r, err := s.Resample(s.Axis.Lo(), (s.Axis.Hi()-s.Axis.Lo())/float64(n-1), n)
+			if err != nil {
+				return nil, inputErr(label, "resampling the non-uniform energy axis: %v", err)
+			}
+			s = r
+		}
+		d, err := s.LockIn(m.lockIn)
+		if err != nil {
+			return nil, inputErr(label, "lock-in emulation with %.3g eV modulation: %v", m.lockIn, err)
+		}
+		s = d
+	}
+	lo, hi := m.window[0], m.window[1]
+	tol := 1e-6 * m.step
+	if s.Axis.Lo() > lo+tol || s.Axis.Hi() < hi-tol {
+		return nil, inputErr(label, "spectrum covers %.5g-%.5g eV, shorter than the fit window %.5g-%.5g eV", s.Axis.Lo(), s.Axis.Hi(), lo, hi)
+	}
+	y := make([]float64, m.n)
+	if s.Axis.Uniform() && math.Abs(s.Axis.Step-m.step) <= 1e-9*m.step {
+		off := (m.start - s.Axis.Start) / m.step
+		i0 := int(math.Round(off))
+		if math.Abs(off-float64(i0)) < 1e-6 && i0 >= 0 && i0+m.n <= s.Len() {
+			copy(y, s.Y[i0:i0+m.n])
+			return y, nil
+		}
+	}
+	s.Curve().SampleShifted(y, m.start, m.step, 0)
+	return y, nil
+}
+
+// result builds the Result (without uncertainties) from a solution.
+func (m *Model) result(w *worker, y []float64, sol solution) (*Result, error) {
+	k, q := len(m.refs), len(m.basis)
+	n := m.n
+	res := &Result{Window: m.window, Mode: m.mode, Modulation: m.modulation, Options: m.opts, Uncertainty: m.opts.Uncertainty}
+	res.Warnings = append(res.Warnings, m.warnings...)
+	cv := Curves{Energy: append([]float64(nil), m.energy...), Data: append([]float64(nil), y...),
+		Total: make([]float64, n), Background: make([]float64, n), Residual: make([]float64, n), Components: make([][]float64, k)}
+	sum := 0.0
+	for i := 0; i < k; i++ {
+		sum += sol.x[i]
+	}
+	if !(sum > 0) {
+		return nil, inputErr(m.unknownLabel, "no reference describes the spectrum: every coefficient is zero at the best shift (wrong references, element or energy range?)")
+	}
+	res.Components = make([]Component, k)
+	for i, r := range m.refs {
+		c := sol.x[i]
+		comp := make([]float64, n)
+		m.curves[i].SampleShifted(comp, m.start, m.step, sol.shifts[i])
+		for j := range comp {
+			comp[j] *= c
+			cv.Total[j] += comp[j]
+		}
+		cv.Components[i] = comp
+		res.Components[i] = Component{Ref: r.ID, Name: r.Name, Element: r.Element, State: r.State,
+			Coefficient: c, Fraction: c / sum, Shift: sol.shifts[i], AtBound: c <= 0}
+		if m.opts.Shift != ShiftNone && math.Abs(sol.shifts[i]) >= m.bound-0.01 && c > 0 {
+			res.Components[i].ShiftAtBound = true
+		}
+	}
+	res.Background = append([]float64(nil), sol.x[k:k+q]...)
+	for a := 0; a < q; a++ {
+		for j := 0; j < n; j++ {
+			cv.Background[j] += sol.x[k+a] * m.basis[a][j]
+		}
+	}
+	rss := 0.0
+	for j := 0; j < n; j++ {
+		cv.Total[j] += cv.Background[j]
+		cv.Residual[j] = y[j] - cv.Total[j]
+		rss += cv.Residual[j] * cv.Residual[j]
+	}
+	res.Curves = cv
+
+	// Quality.
+	active := 0
+	for _, c := range res.Components {
+		if !c.AtBound {
+			active++
+		}
+	}
+	np := active + q + m.shiftParams(res.Components)
+	qu := Quality{Points: n, DOF: n - np}
+	qu.ResidualRMS = math.Sqrt(rss / float64(n))
+	qu.RFactor = rss / dot(y, y)
+	qu.NoiseSD = highPassNoise(cv.Residual)
+	if qu.DOF > 0 && qu.NoiseSD > 0 {
+		qu.Chi2Reduced = rss / float64(qu.DOF) / (qu.NoiseSD * qu.NoiseSD)
+	}
+	qu.CorrelationFactor, qu.CorrelationLags = correlationFactor(cv.Residual)
+	res.Quality = qu
+	if qu.DOF <= 0 {
+		return nil, inputErr(m.unknownLabel, "%d channels for %d parameters: no degrees of freedom left", n, np)
+	}
+
+	// Warnings.
+	for _, c := range res.Components {
+		if c.ShiftAtBound {
+			res.Warnings = append(res.Warnings, fmt.Sprintf("shift of %s is at its bound (%+.3g eV of %.3g eV allowed): widen the maximum shift or check the energy scale", label(c), c.Shift, m.bound))
+			if m.opts.Shift == ShiftCommon {
+				break
+			}
+		}
+	}
+	if long := max(8, n/15); qu.CorrelationLags >= long && qu.Chi2Reduced > 1.5 {
+		res.Warnings = append(res.Warnings, fmt.Sprintf("structure left in the residual (correlated over %d channels, reduced chi-square %.3g): the references may not span the unknown", qu.CorrelationLags, qu.Chi2Reduced))
+	}
+	return res, nil
+}
+
+func label(c Component) string {
+	switch {
+	case c.Name != "":
+		return c.Name
+	case c.Ref != "":
+		return c.Ref
+	}
+	return c.State
+}
+
+// shiftParams returns the number of fitted shift parameters.
+func (m *Model) shiftParams(comps []Component) int {
+	if m.bound == 0 {
+		return 0
+	}
+	if m.opts.Shift == ShiftCommon {
+		return 1
+	}
+	n := 0
+	for _, c := range comps {
+		if !c.AtBound {
+			n++
+		}
+	}
+	return n
+}
+
+// highPassNoise estimates the noise standard deviation from second
+// differences: var(r_{i+1} - 2 r_i + r_{i-1}) = 6 sigma^2 for white noise.
+func highPassNoise(r []float64) float64 {
+	if len(r) < 3 {
+		return 0
+	}
+	s := 0.0
+	for i := 1; i+1 < len(r); i++ {
+		d := r[i+1] - 2*r[i] + r[i-1]
+		s += d * d
+	}
+	return math.Sqrt(s / (6 * float64(len(r)-2)))
+}
+
+// correlationFactor returns 1 + 2 sum_k rho_k over the lags k = 1, 2, ...
+// while rho_k stays above 2/sqrt(n) (the 95 % band of a white residual),
+// at most n/4 lags, and the number of lags summed. It is at least 1.
+func correlationFactor(r []float64) (float64, int) {
+	n := len(r)
+	mean := 0.0
+	for _, v := range r {
+		mean += v
+	}
+	mean /= float64(n)
+	c0 := 0.0
+	for _, v := range r {
+		c0 += (v - mean) * (v - mean)
+	}
+	if c0 == 0 {
+		return 1, 0
+	}
+	thr := 2 / math.Sqrt(float64(n))
+	f, lags := 1.0, 0
+	for k := 1; k <= n/4; k++ {
+		ck := 0.0
+		for i := 0; i+k < n; i++ {
+			ck += (r[i] - mean) * (r[i+k] - mean)
+		}
+		rho := ck / c0
+		if rho < thr {
+			break
+		}
+		f += 2 * rho
+		lags = k
+	}
+	return f, lags
+}
+
+// sanitize replaces values JSON cannot carry (NaN, Inf) by 0.
+func sanitize(res *Result) {
+	fix := func(v *float64) {
+		if math.IsNaN(*v) || math.IsInf(*v, 0) {
+			*v = 0
+		}
+	}
+	for i := range res.Components {
+		c := &res.Components[i]
+		for _, v := range []*float64{&c.Coefficient, &c.CoefficientSD, &c.Fraction, &c.FractionSD, &c.FractionCI95[0], &c.FractionCI95[1], &c.Shift, &c.ShiftSD} {
+			fix(v)
+		}
+	}
+	q := &res.Quality
+	for _, v := range []*float64{&q.Chi2Reduced, &q.RFactor, &q.ResidualRMS, &q.NoiseSD, &q.CorrelationFactor} {
+		fix(v)
+	}
+}

@@ -1,0 +1,509 @@
+package fit
+
+import (
+	"fmt"
+	"math"
+	"strings"
+
+	"statemix/lineshape"
+)
+
+// Reference is a reference spectrum of a known chemical state.
+type Reference struct {
+	ID      string // library id (may be empty for ad-hoc references)
+	Name    string // human name
+	Element string // element symbol
+	State   string // chemical state
+	// Spectrum is the reference, at the relative intensity it was recorded
+	// with. Prepare does not modify it.
+	Spectrum *lineshape.Spectrum
+}
+
+// Label returns the name, else the id, else the state of r.
+func (r Reference) Label() string {
+	switch {
+	case r.Name != "":
+		return r.Name
+	case r.ID != "":
+		return r.ID
+	case r.State != "":
+		return r.State
+	}
+	return "(unnamed reference)"
+}
+
+// Model is a prepared fit: the references on the fit grid, the background
+// basis and the shift scan tables. It is read-only after Prepare, so one
+// Model may fit many spectra (a depth profile, a map) concurrently.
+type Model struct {
+	opts Options // resolved
+	refs []Reference
+	mode lineshape.Mode // mode of the fit
+
+	// lockIn > 0 means unknowns are direct and converted by lock-in
+	// emulation with this peak-to-peak modulation (eV) before fitting.
+	lockIn     float64
+	modulation float64 // modulation the fit works at, 0 if not known
+
+	window       [2]float64
+	start, step  float64
+	n            int
+	energy       []float64
+	basis        [][]float64 // Legendre background columns
+	basisGram    []float64   // basis_a . basis_b, q x q
+	curves       []*lineshape.Curve
+	bound        float64     // |shift| bound, 0 for ShiftNone
+	shifts       []float64   // scan grid of shifts, eV
+	tables       [][][]float64 // [ref][shift][channel]
+	refScale     []float64   // normalisation scale of each reference (1 if none)
+	warnings     []string
+	unknownLabel string
+}
+
+// Window returns the fit window [lo, hi] in eV (the first and last grid
+// energies).
+func (m *Model) Window() [2]float64 { return m.window }
+
+// Mode returns the mode the fit works in.
+func (m *Model) Mode() lineshape.Mode { return m.mode }
+
+// Modulation returns the peak-to-peak modulation (eV) the derivative fit
+// works at, or 0 if it is a direct fit or the modulation is not recorded.
+func (m *Model) Modulation() float64 { return m.modulation }
+
+// Options returns the options with their defaults filled in.
+func (m *Model) Options() Options { return m.opts }
+
+// References returns the references in fit order.
+func (m *Model) References() []Reference { return append([]Reference(nil), m.refs...) }
+
+// Points returns the number of channels in the fit window.
+func (m *Model) Points() int { return m.n }
+
+// Warnings returns what Prepare found worth saying (truncated window,
+// mixed elements, near collinearity, ...).
+func (m *Model) Warnings() []string { return append([]string(nil), m.warnings...) }
+
+// inputErr returns a *lineshape.InputError about file.
+func inputErr(file string, format string, args ...any) error {
+	return &lineshape.InputError{File: file, Block: -1, Err: fmt.Errorf(format, args...)}
+}
+
+const (
+	minChannels       = 20
+	modulationRelTol  = 0.10 // modulations within 10 % are taken as equal
+	collinearError    = 1e7  // condition number of the scaled design: refuse
+	collinearWarning  = 1e3  // condition number of the scaled design: warn
+	modulationAbsTolV = 0.05 // eV
+)
+
+// Prepare brings unknown and refs to one mode and one grid and returns the
+// model that Fit uses. The unknown fixes the grid (its channels inside the
+// window; a non-uniform axis is resampled to its mean step) and, with the
+// references, the mode: if any spectrum is a derivative, direct spectra are
+// converted by lock-in emulation (lineshape.Spectrum.LockIn) with the
+// derivative spectra's modulation. Derivative spectra recorded with
+// modulations that differ by more than 10 % cannot be reconciled (a
+// recorded modulation cannot be undone) and are refused.
+//
+// Bad input (no references, a reference given twice, an unknown that is
+// zero, not finite or does not overlap the references, a window with fewer
+// than 20 channels or less than half of the requested one) is reported as
+// a *lineshape.InputError; collinear references as a *CollinearError.
+func Prepare(unknown *lineshape.Spectrum, refs []Reference, opts Options) (*Model, error) {
+	if unknown == nil {
+		panic("fit: Prepare with a nil unknown")
+	}
+	o := opts.resolved()
+	deg := o.BackgroundDegree()
+	ulabel := unknown.Meta.Source
+	if ulabel == "" {
+		ulabel = "unknown spectrum"
+	}
+	m := &Model{opts: o, unknownLabel: ulabel}
+
+	if len(refs) == 0 {
+		return nil, inputErr(ulabel, "no references to fit with")
+	}
+	if err := unknown.Validate(); err != nil {
+		return nil, inputErr(ulabel, "%v", err)
+	}
+	if allZero(unknown.Y) {
+		return nil, inputErr(ulabel, "the spectrum is zero in every channel")
+	}
+	seen := map[string]int{}
+	elements := map[string]bool{}
+	for i, r := range refs {
+		if r.Spectrum == nil {
+			return nil, inputErr(r.Label(), "reference has no spectrum")
+		}
+		if err := r.Spectrum.Validate(); err != nil {
+			return nil, inputErr(r.Label(), "reference spectrum: %v", err)
+		}
+		if allZero(r.Spectrum.Y) {
+			return nil, inputErr(r.Label(), "reference spectrum is zero in every channel")
+		}
+		if r.ID != "" {
+			if j, ok := seen[r.ID]; ok {
+				return nil, inputErr(r.Label(), "reference %s is given twice (positions %d and %d)", r.ID, j+1, i+1)
+			}
+			seen[r.ID] = i
+		}
+		for j := 0; j < i; j++ {
+			if sameSpectrum(refs[j].Spectrum, r.Spectrum) {
+				return nil, inputErr(r.Label(), "references %s and %s have identical spectra: give each reference once", refs[j].Label(), r.Label())
+			}
+		}
+		if o.Element != "" && r.Element != "" && !strings.EqualFold(o.Element, r.Element) {
+			return nil, inputErr(r.Label(), "reference is of element %s, but the analysis is for %s", r.Element, o.Element)
+		}
+		if r.Element != "" {
+			elements[strings.ToLower(r.Element)] = true
+		}
+	}
+	if len(elements) > 1 {
+		var els []string
+		for _, r := range refs {
+			if r.Element != "" {
+				els = append(els, r.Label()+"="+r.Element)
+			}
+		}
+		m.warnings = append(m.warnings, "references of different elements are fitted together ("+strings.Join(els, ", ")+"): fractions then mix elements")
+	}
+
+	// Uniform unknown.
+	u := unknown
+	if !u.Axis.Uniform() {
+		n := u.Len()
+		step := (u.Axis.Hi() - u.Axis.Lo()) / float64(n-1)
+		r, err := u.Resample(u.Axis.Lo(), step, n)
+		if err != nil {
+			return nil, inputErr(ulabel, "resampling the non-uniform energy axis: %v", err)
+		}
+		u = r
+		m.warnings = append(m.warnings, fmt.Sprintf("the unknown's energy axis is not uniform: resampled to %.4g eV steps", step))
+	}
+
+	// Mode and modulation.
+	mode := lineshape.Direct
+	if u.Mode == lineshape.Derivative {
+		mode = lineshape.Derivative
+	}
+	for _, r := range refs {
+		if r.Spectrum.Mode == lineshape.Derivative {
+			mode = lineshape.Derivative
+		}
+	}
+	m.mode = mode
+	k, err := m.reconcileModulation(u, refs)
+	if err != nil {
+		return nil, err
+	}
+	m.modulation = k
+	conv := make([]*lineshape.Spectrum, len(refs))
+	trim := make([]float64, len(refs)) // eV lost at each end by conversion
+	for i, r := range refs {
+		s := r.Spectrum
+		if mode == lineshape.Derivative && s.Mode == lineshape.Direct {
+			if !s.Axis.Uniform() {
+				n := s.Len()
+				rs, err := s.Resample(s.Axis.Lo(), (s.Axis.Hi()-s.Axis.Lo())/float64(n-1), n)
+				if err != nil {
+					return nil, inputErr(r.Label(), "resampling the non-uniform energy axis: %v", err)
+				}
+				s = rs
+			}
+			d, err := s.LockIn(k)
+			if err != nil {
+				return nil, inputErr(r.Label(), "lock-in emulation with %.3g eV modulation: %v", k, err)
+			}
+			s = d
+			trim[i] = k / 2
+		}
+		conv[i] = s
+	}
+	utrim := 0.0
+	if mode == lineshape.Derivative && u.Mode == lineshape.Direct {
+		m.lockIn = k
+		utrim = k / 2
+	}
+	m.refScale = make([]float64, len(refs))
+	for i := range conv {
+		m.refScale[i] = 1
+		if o.Normalize != lineshape.NormNone {
+			s, scale, err := conv[i].Normalize(o.Normalize)
+			if err != nil {
+				return nil, inputErr(refs[i].Label(), "normalising: %v", err)
+			}
+			conv[i], m.refScale[i] = s, scale
+		}
+	}
+	if o.Normalize != lineshape.NormNone {
+		m.warnings = append(m.warnings, fmt.Sprintf("references normalised (%v): fractions are shares of normalised signal, not of the signal of pure standards at their recorded intensity", o.Normalize))
+	}
+
+	// Window.
+	m.bound = o.MaxShift
+	if o.Shift == ShiftNone {
+		m.bound = 0
+	}
+	lo, hi := u.Axis.Lo()+utrim, u.Axis.Hi()-utrim
+	for i, s := range conv {
+		rlo, rhi := s.Axis.Lo()+trim[i]+m.bound, s.Axis.Hi()-trim[i]-m.bound
+		if rlo >= hi || rhi <= lo {
+			return nil, inputErr(refs[i].Label(), "reference covers %.5g-%.5g eV, which does not overlap the unknown's %.5g-%.5g eV (allowing shifts of up to %.3g eV)",
+				s.Axis.Lo(), s.Axis.Hi(), u.Axis.Lo(), u.Axis.Hi(), m.bound)
+		}
+		lo, hi = math.Max(lo, rlo), math.Min(hi, rhi)
+	}
+	if lo >= hi {
+		return nil, inputErr(ulabel, "the references have no energy range in common with each other and the unknown")
+	}
+	if w := o.Window; w != [2]float64{} {
+		if !(w[0] < w[1]) {
+			return nil, inputErr(ulabel, "window %.5g:%.5g eV: low end must be below the high end", w[0], w[1])
+		}
+		clo, chi := math.Max(lo, w[0]), math.Min(hi, w[1])
+		if chi-clo < 0.5*(w[1]-w[0]) {
+			return nil, inputErr(ulabel, "window %.5g:%.5g eV: the unknown and all references (allowing shifts of up to %.3g eV) only cover %.5g-%.5g eV of it, less than half",
+				w[0], w[1], m.bound, lo, hi)
+		}
+		if clo > w[0]+1e-9 || chi < w[1]-1e-9 {
+			m.warnings = append(m.warnings, fmt.Sprintf("window truncated from %.5g:%.5g eV to %.5g:%.5g eV, the range covered by the unknown and all references (allowing shifts of up to %.3g eV)",
+				w[0], w[1], clo, chi, m.bound))
+		}
+		lo, hi = clo, chi
+	}
+	step := u.Axis.Step
+	i0 := int(math.Ceil((lo-u.Axis.Start)/step - 1e-9))
+	i1 := int(math.Floor((hi-u.Axis.Start)/step + 1e-9))
+	if i0 < 0 {
+		i0 = 0
+	}
+	if i1 > u.Len()-1 {
+		i1 = u.Len() - 1
+	}
+	n := i1 - i0 + 1
+	if n < minChannels {
+		return nil, inputErr(ulabel, "fit window %.5g-%.5g eV holds %d channels: need at least %d", lo, hi, max(n, 0), minChannels)
+	}
+	m.start, m.step, m.n = u.Axis.At(i0), step, n
+	m.energy = make([]float64, n)
+	for i := range m.energy {
+		m.energy[i] = m.start + float64(i)*step
+	}
+	m.window = [2]float64{m.energy[0], m.energy[n-1]}
+
+	// Background basis: Legendre polynomials on the window mapped to [-1, 1].
+	m.basis = legendreBasis(m.energy, deg)
+	q := len(m.basis)
+	m.basisGram = make([]float64, q*q)
+	for a := 0; a < q; a++ {
+		for b := 0; b < q; b++ {
+			m.basisGram[a*q+b] = dot(m.basis[a], m.basis[b])
+		}
+	}
+
+	// Curves and scan tables.
+	m.refs = append([]Reference(nil), refs...)
+	m.curves = make([]*lineshape.Curve, len(conv))
+	for i, s := range conv {
+		m.curves[i] = s.Curve()
+	}
+	if m.bound == 0 {
+		m.shifts = []float64{0}
+	} else {
+		half := int(math.Ceil(m.bound/o.ScanStep - 1e-9))
+		h := m.bound / float64(half)
+		m.shifts = make([]float64, 2*half+1)
+		for j := range m.shifts {
+			m.shifts[j] = -m.bound + float64(j)*h
+		}
+		m.shifts[half] = 0
+	}
+	m.tables = make([][][]float64, len(conv))
+	for i, c := range m.curves {
+		m.tables[i] = make([][]float64, len(m.shifts))
+		flat := make([]float64, len(m.shifts)*n)
+		for j, d := range m.shifts {
+			t := flat[j*n : (j+1)*n : (j+1)*n]
+			c.SampleShifted(t, m.start, m.step, d)
+			m.tables[i][j] = t
+		}
+		if allZero(m.tables[i][len(m.shifts)/2]) {
+			return nil, inputErr(refs[i].Label(), "reference is zero across the fit window %.5g-%.5g eV", m.window[0], m.window[1])
+		}
+	}
+	if err := m.checkCollinear(); err != nil {
+		return nil, err
+	}
+	return m, nil
+}
+
+// reconcileModulation returns the modulation the fit works at.
+func (m *Model) reconcileModulation(u *lineshape.Spectrum, refs []Reference) (float64, error) {
+	if m.mode == lineshape.Direct {
+		return 0, nil
+	}
+	type rec struct {
+		label string
+		k     float64
+	}
+	var recorded []rec
+	var unrecorded []string
+	needConversion := u.Mode == lineshape.Direct
+	if u.Mode == lineshape.Derivative {
+		if u.Meta.ModulationEV > 0 {
+			recorded = append(recorded, rec{"the unknown", u.Meta.ModulationEV})
+		} else {
+			unrecorded = append(unrecorded, "the unknown")
+		}
+	}
+	for _, r := range refs {
+		s := r.Spectrum
+		if s.Mode == lineshape.Direct {
+			needConversion = true
+			continue
+		}
+		if s.Meta.ModulationEV > 0 {
+			recorded = append(recorded, rec{"reference " + r.Label(), s.Meta.ModulationEV})
+		} else {
+			unrecorded = append(unrecorded, "reference "+r.Label())
+		}
+	}
+	same := func(a, b float64) bool {
+		return math.Abs(a-b) <= math.Max(modulationRelTol*math.Max(a, b), modulationAbsTolV)
+	}
+	k := m.opts.Modulation
+	if k < 0 || math.IsNaN(k) || math.IsInf(k, 0) {
+		return 0, inputErr(m.unknownLabel, "modulation %v eV is not a positive number", k)
+	}
+	if k > 0 {
+		for _, r := range recorded {
+			if !same(r.k, k) {
+				return 0, inputErr(m.unknownLabel, "%s was recorded with %.3g eV modulation, but %.3g eV is asked for: a recorded modulation cannot be changed; leave the modulation unset or use references recorded at %.3g eV", r.label, r.k, k, k)
+			}
+		}
+	} else if len(recorded) > 0 {
+		k = recorded[0].k
+		for _, r := range recorded[1:] {
+			if !same(r.k, k) {
+				return 0, inputErr(m.unknownLabel, "%s was recorded with %.3g eV modulation but %s with %.3g eV: derivative lineshapes depend on the modulation and a recorded one cannot be undone; record the references at the unknown's modulation, or fit direct spectra",
+					recorded[0].label, recorded[0].k, r.label, r.k)
+			}
+		}
+	}
+	if needConversion && k == 0 {
+		return 0, inputErr(m.unknownLabel, "a direct spectrum must be compared with derivative ones, but no modulation is recorded: give the modulation (peak-to-peak, eV) explicitly")
+	}
+	if len(unrecorded) > 0 && (len(recorded) > 0 || needConversion) {
+		m.warnings = append(m.warnings, fmt.Sprintf("modulation not recorded for %s: assumed to be %.3g eV like the others", strings.Join(unrecorded, ", "), k))
+	}
+	return k, nil
+}
+
+// checkCollinear refuses references that are collinear with each other (or
+// the background) in the window at zero shift and warns when they are
+// nearly so.
+func (m *Model) checkCollinear() error {
+	k := len(m.refs)
+	cols := make([][]float64, 0, k+len(m.basis))
+	mid := len(m.shifts) / 2
+	for i := 0; i < k; i++ {
+		cols = append(cols, m.tables[i][mid])
+	}
+	cols = append(cols, m.basis...)
+	cond, a, b, corr := condition(cols)
+	name := func(i int) string {
+		if i < k {
+			return m.refs[i].Label()
+		}
+		return fmt.Sprintf("background term %d", i-k)
+	}
+	if cond > collinearError || math.IsInf(cond, 0) || math.IsNaN(cond) {
+		return &CollinearError{A: name(a), B: name(b), Condition: cond, Correlation: corr}
+	}
+	if cond > collinearWarning {
+		m.warnings = append(m.warnings, fmt.Sprintf("%s and %s are nearly collinear in the window (condition number %.3g, correlation %.4f): their fractions trade off against each other", name(a), name(b), cond, corr))
+	}
+	return nil
+}
+
+// CollinearError reports references that cannot be told apart in the fit
+// window: the scaled design matrix has condition number Condition, and A
+// and B are the pair (references or background terms) with the largest
+// partial correlation.
+type CollinearError struct {
+	A, B        string
+	Condition   float64
+	Correlation float64
+}
+
+func (e *CollinearError) Error() string {
+	return fmt.Sprintf("%s and %s are collinear in the fit window (condition number %.3g, correlation %.6f): their fractions cannot be told apart; drop one of them", e.A, e.B, e.Condition, e.Correlation)
+}
+
+func allZero(v []float64) bool {
+	for _, x := range v {
+		if x != 0 {
+			return false
+		}
+	}
+	return true
+}
+
+func sameSpectrum(a, b *lineshape.Spectrum) bool {
+	if a == b {
+		return true
+	}
+	if a.Len() != b.Len() || a.Mode != b.Mode {
+		return false
+	}
+	for i := range a.Y {
+		if a.Y[i] != b.Y[i] || a.Energy(i) != b.Energy(i) {
+			return false
+		}
+	}
+	return true
+}
+
+// legendreBasis returns Legendre polynomials P_0..P_deg of t = 2(E-lo)/(hi-lo)-1.
+func legendreBasis(e []float64, deg int) [][]float64 {
+	if deg < 0 {
+		return nil
+	}
+	n := len(e)
+	lo, hi := e[0], e[n-1]
+	b := make([][]float64, deg+1)
+	for j := range b {
+		b[j] = make([]float64, n)
+	}
+	for i, x := range e {
+		t := 2*(x-lo)/(hi-lo) - 1
+		b[0][i] = 1
+		if deg >= 1 {
+			b[1][i] = t
+		}
+		for j := 1; j < deg; j++ {
+			b[j+1][i] = (float64(2*j+1)*t*b[j][i] - float64(j)*b[j-1][i]) / float64(j+1)
+		}
+	}
+	return b
+}
+
+func dot(a, b []float64) float64 {
+	var s0, s1, s2, s3 float64
+	n := len(a)
+	b = b[:n]
+	i := 0
+	for ; i+4 <= n; i += 4 {
+		s0 += a[i] * b[i]
+		s1 += a[i+1] * b[i+1]
+		s2 += a[i+2] * b[i+2]
+		s3 += a[i+3] * b[i+3]
+	}
+	for ; i < n; i++ {
+		s0 += a[i] * b[i]
+	}
+	return (s0 + s1) + (s2 + s3)
+}

@@ -1,0 +1,285 @@
+package fit
+
+import (
+	"errors"
+	"math"
+
+	"statemix/nnls"
+)
+
+// worker holds everything one goroutine needs to fit spectra with a Model.
+type worker struct {
+	m    *Model
+	lin  *linear
+	cols [][]float64 // current columns: k references then the basis
+	own  [][]float64 // k buffers for references sampled off the scan grid
+	y    []float64
+	yy   float64
+	by   []float64
+}
+
+func (m *Model) newWorker() *worker {
+	k, q := len(m.refs), len(m.basis)
+	w := &worker{m: m, lin: newLinear(k, q), cols: make([][]float64, k+q), own: make([][]float64, k), by: make([]float64, q)}
+	for i := range w.own {
+		w.own[i] = make([]float64, m.n)
+	}
+	copy(w.cols[k:], m.basis)
+	return w
+}
+
+// solution is the outcome of the nonlinear search for one spectrum.
+type solution struct {
+	x      []float64 // k coefficients then q background terms
+	shifts []float64 // k shifts, eV
+	rss    float64
+}
+
+// setData makes y the data of the following solves.
+func (w *worker) setData(y []float64) {
+	w.y = y
+	w.yy = dot(y, y)
+	for a, b := range w.m.basis {
+		w.by[a] = dot(b, y)
+	}
+}
+
+// solveCols solves the linear problem for the current columns.
+func (w *worker) solveCols() (float64, error) {
+	return w.lin.solve(w.cols, w.y, w.yy, w.m.basisGram, w.by)
+}
+
+// sampleOwn samples reference i shifted by d into its own buffer and uses it.
+func (w *worker) sampleOwn(i int, d float64) {
+	w.m.curves[i].SampleShifted(w.own[i], w.m.start, w.m.step, d)
+	w.cols[i] = w.own[i]
+}
+
+// evalCommon returns the residual sum of squares with every reference
+// shifted by d (sampled off-grid).
+func (w *worker) evalCommon(d float64) float64 {
+	for i := range w.own {
+		w.sampleOwn(i, d)
+	}
+	rss, err := w.solveCols()
+	if err != nil {
+		return math.Inf(1)
+	}
+	return rss
+}
+
+// search finds the shifts and coefficients for the data set by setData.
+// ShiftNone: one linear solve. ShiftCommon: every shift of the scan grid
+// (at most 0.05 eV apart, references sampled with sub-channel
+// interpolation) is tried, then the best is refined by Brent's method within
+// one grid step on either side. ShiftEach: from the best common shift,
+// coordinate sweeps: each reference's shift in turn is scanned over the
+// whole grid with the others fixed, then refined by Brent's method, until
+// no shift moves by more than 1e-3 eV (at most 20 sweeps).
+func (w *worker) search() (solution, error) {
+	m := w.m
+	k := len(m.refs)
+	nsh := len(m.shifts)
+	best, bestJ := math.Inf(1), -1
+	var firstErr error
+	for j := 0; j < nsh; j++ {
+		for i := 0; i < k; i++ {
+			w.cols[i] = m.tables[i][j]
+		}
+		rss, err := w.solveCols()
+		if err != nil {
+			if firstErr == nil {
+				firstErr = err
+			}
+			continue
+		}
+		if rss < best {
+			best, bestJ = rss, j
+		}
+	}
+	if bestJ < 0 {
+		return solution{}, w.wrapErr(firstErr)
+	}
+	d := m.shifts[bestJ]
+	if nsh > 1 {
+		h := m.shifts[1] - m.shifts[0]
+		a, b := math.Max(d-h, -m.bound), math.Min(d+h, m.bound)
+		xd, fd := brentMin(w.evalCommon, a, b, 1e-4, 60)
+		if fd < best {
+			d, best = xd, fd
+		}
+	}
+	shifts := make([]float64, k)
+	for i := range shifts {
+		shifts[i] = d
+	}
+	if m.opts.Shift == ShiftEach && nsh > 1 && k > 1 {
+		best = w.sweep(shifts, best)
+	}
+	// Final solve at the chosen shifts.
+	for i := 0; i < k; i++ {
+		w.sampleOwn(i, shifts[i])
+	}
+	rss, err := w.solveCols()
+	if err != nil {
+		return solution{}, w.wrapErr(err)
+	}
+	x := append([]float64(nil), w.lin.x...)
+	return solution{x: x, shifts: shifts, rss: rss}, nil
+}
+
+// sweep refines per-reference shifts by coordinate sweeps from shifts
+// (overwritten) whose residual sum of squares is cur, and returns the new one.
+func (w *worker) sweep(shifts []float64, cur float64) float64 {
+	m := w.m
+	k := len(m.refs)
+	h := m.shifts[1] - m.shifts[0]
+	for i := 0; i < k; i++ {
+		w.sampleOwn(i, shifts[i])
+	}
+	for iter := 0; iter < 20; iter++ {
+		moved := 0.0
+		for i := 0; i < k; i++ {
+			bestJ, best := -1, cur
+			for j := range m.shifts {
+				w.cols[i] = m.tables[i][j]
+				rss, err := w.solveCols()
+				if err == nil && rss < best*(1-1e-12) {
+					best, bestJ = rss, j
+				}
+			}
+			centre := shifts[i]
+			if bestJ >= 0 {
+				centre = m.shifts[bestJ]
+			}
+			f := func(d float64) float64 {
+				w.sampleOwn(i, d)
+				rss, err := w.solveCols()
+				if err != nil {
+					return math.Inf(1)
+				}
+				return rss
+			}
+			a, b := math.Max(centre-h, -m.bound), math.Min(centre+h, m.bound)
+			xd, fd := brentMin(f, a, b, 1e-4, 60)
+			nd := shifts[i]
+			switch {
+			case fd < best && fd < cur:
+				nd, cur = xd, fd
+			case bestJ >= 0 && best < cur:
+				nd, cur = m.shifts[bestJ], best
+			}
+			moved = math.Max(moved, math.Abs(nd-shifts[i]))
+			shifts[i] = nd
+			w.sampleOwn(i, nd)
+		}
+		if moved <= 1e-3 {
+			break
+		}
+	}
+	return cur
+}
+
+func (w *worker) wrapErr(err error) error {
+	m := w.m
+	name := func(i int) string {
+		if i < len(m.refs) {
+			return m.refs[i].Label()
+		}
+		return "the background"
+	}
+	var re *nnls.RankError
+	if errors.As(err, &re) && len(re.Columns) >= 2 {
+		return &CollinearError{A: name(re.Columns[0]), B: name(re.Columns[1]), Condition: re.Cond}
+	}
+	if err == errSingular || err == nil || re != nil {
+		cols := make([][]float64, 0, len(w.cols))
+		cols = append(cols, w.cols...)
+		cond, a, b, corr := condition(cols)
+		return &CollinearError{A: name(a), B: name(b), Condition: cond, Correlation: corr}
+	}
+	return err
+}
+
+// brentMin minimises f on [a, b] to within tol by Brent's method (golden
+// section with parabolic interpolation; R. P. Brent, Algorithms for
+// Minimization without Derivatives, 1973, ch. 5) and returns the abscissa
+// and value of the best point found.
+func brentMin(f func(float64) float64, a, b, tol float64, maxIter int) (float64, float64) {
+	const cgold = 0.3819660112501051
+	if b-a <= 0 {
+		return a, f(a)
+	}
+	x := a + cgold*(b-a)
+	w, v := x, x
+	fx := f(x)
+	fw, fv := fx, fx
+	var d, e float64
+	for it := 0; it < maxIter; it++ {
+		mid := 0.5 * (a + b)
+		tol1 := 1e-10*math.Abs(x) + tol/3
+		tol2 := 2 * tol1
+		if math.Abs(x-mid) <= tol2-0.5*(b-a) {
+			break
+		}
+		golden := true
+		if math.Abs(e) > tol1 {
+			r := (x - w) * (fx - fv)
+			q := (x - v) * (fx - fw)
+			p := (x-v)*q - (x-w)*r
+			q = 2 * (q - r)
+			if q > 0 {
+				p = -p
+			}
+			q = math.Abs(q)
+			etemp := e
+			e = d
+			if !(math.Abs(p) >= math.Abs(0.5*q*etemp) || p <= q*(a-x) || p >= q*(b-x)) {
+				d = p / q
+				u := x + d
+				if u-a < tol2 || b-u < tol2 {
+					d = math.Copysign(tol1, mid-x)
+				}
+				golden = false
+			}
+		}
+		if golden {
+			if x >= mid {
+				e = a - x
+			} else {
+				e = b - x
+			}
+			d = cgold * e
+		}
+		var u float64
+		if math.Abs(d) >= tol1 {
+			u = x + d
+		} else {
+			u = x + math.Copysign(tol1, d)
+		}
+		fu := f(u)
+		if fu <= fx {
+			if u >= x {
+				a = x
+			} else {
+				b = x
+			}
+			v, fv = w, fw
+			w, fw = x, fx
+			x, fx = u, fu
+		} else {
+			if u < x {
+				a = u
+			} else {
+				b = u
+			}
+			if fu <= fw || w == x {
+				v, fv = w, fw
+				w, fw = u, fu
+			} else if fu <= fv || v == x || v == w {
+				v, fv = u, fu
+			}
+		}
+	}
+	return x, fx
+}
