@@ -34,8 +34,9 @@ const stateKey = "statemix.state"
 // layout change meaning; an index with another version is stale.
 const vectorVersion = 1
 
-// batchSize is the number of documents per bleve batch.
-const batchSize = 500
+// batchSize is the number of documents per bleve batch (a variable so the
+// kill test can make updates of several batches cheaply).
+var batchSize = 500
 
 // ErrNotExist is returned by a read-only Open when the library has no index
 // yet.
