@@ -26,6 +26,7 @@ const (
 	maxFormulaLen   = 256
 	maxFormulaDepth = 16
 	maxCount        = 1e6
+	minCount        = 1e-6
 )
 
 // ParseFormula parses a chemical formula such as "Al2O3", "Si3N4",
@@ -54,6 +55,9 @@ func ParseFormula(s string) (Formula, error) {
 	}
 	f := Formula{Text: s}
 	for _, pc := range counts {
+		if pc.n > maxCount {
+			return Formula{}, fmt.Errorf("formula %q: %s count %g too large (at most %g)", s, elements[pc.z].Symbol, pc.n, maxCount)
+		}
 		f.Parts = append(f.Parts, Part{Symbol: elements[pc.z].Symbol, Z: pc.z, Count: pc.n})
 	}
 	return f, nil
@@ -113,7 +117,11 @@ func (p *formulaParser) group(depth int) ([]zCount, error) {
 				return nil, err
 			}
 			for _, zc := range inner {
-				out = addCount(out, zc.z, zc.n*n)
+				v := zc.n * n
+				if v > maxCount || v < minCount {
+					return nil, fmt.Errorf("position %d: %s count %g out of range [%g, %g]", open+1, elements[zc.z].Symbol, v, minCount, maxCount)
+				}
+				out = addCount(out, zc.z, v)
 			}
 		case c >= 'A' && c <= 'Z':
 			at := p.i
@@ -176,6 +184,9 @@ func (p *formulaParser) count() (float64, error) {
 	if n > maxCount {
 		return 0, fmt.Errorf("position %d: count %q too large (at most %g)", at+1, txt, maxCount)
 	}
+	if n < minCount {
+		return 0, fmt.Errorf("position %d: count %q too small (at least %g)", at+1, txt, minCount)
+	}
 	return n, nil
 }
 
@@ -219,7 +230,7 @@ func (f Formula) String() string {
 	for _, p := range f.Parts {
 		b.WriteString(p.Symbol)
 		if p.Count != 1 {
-			b.WriteString(strconv.FormatFloat(p.Count, 'g', -1, 64))
+			b.WriteString(strconv.FormatFloat(p.Count, 'f', -1, 64))
 		}
 	}
 	return b.String()

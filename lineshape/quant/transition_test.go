@@ -8,7 +8,7 @@ import (
 func TestParseTransition(t *testing.T) {
 	for _, c := range []struct {
 		in, want string // want: canonical String()
-		group        bool
+		group    bool
 	}{
 		{"KLL", "KLL", true},
 		{"KL23L23", "KL23L23", false},
