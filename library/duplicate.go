@@ -12,8 +12,9 @@ import (
 // and the same lineshape within noise as an existing reference of the same
 // element and another state: a duplicate or a mislabelled state.
 //
-// "Same main feature" means main-feature energies within one channel step
-// (the larger of the two spectra's). "Same lineshape within noise" means
+// "Same main feature" means main-feature energies within two channel steps
+// (of the coarser spectrum): the feature of a noisy spectrum is uncertain by
+// about a channel. "Same lineshape within noise" means
 // that after the best scaling of one onto the other over their common
 // energy range (linear interpolation onto e's channels), the residual RMS
 // is at most 3 times the combined noise of the two, each estimated from
@@ -37,7 +38,7 @@ func duplicateWarnings(e *Entry, existing []*Entry) []Warning {
 		if !ok {
 			continue
 		}
-		tol := math.Max(channelStep(e.Spectrum), channelStep(x.Spectrum))
+		tol := 2 * math.Max(channelStep(e.Spectrum), channelStep(x.Spectrum))
 		if math.Abs(fe-fx) > tol {
 			continue
 		}

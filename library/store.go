@@ -1,6 +1,7 @@
 package library
 
 import (
+	"bytes"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -253,7 +254,24 @@ func decodeEntry(b []byte) (*Entry, error) {
 		return nil, fmt.Errorf("version %d, this program reads version %d", f.Version, entryVersion)
 	}
 	e := f.Entry
+	if len(e.Fit) > 0 {
+		c, err := compactJSON(e.Fit)
+		if err != nil {
+			return nil, fmt.Errorf("fit: %v", err)
+		}
+		e.Fit = c
+	}
 	return &e, nil
+}
+
+// compactJSON returns b without insignificant space: the form in which an
+// entry holds its fit result in memory (files hold it indented).
+func compactJSON(b []byte) (json.RawMessage, error) {
+	var buf bytes.Buffer
+	if err := json.Compact(&buf, b); err != nil {
+		return nil, err
+	}
+	return buf.Bytes(), nil
 }
 
 // ReadEntryFile reads one entry file and checks its schema and that its ID

@@ -142,6 +142,13 @@ func normalize(e *Entry) error {
 	if e.Kind == KindReference && len(e.Fit) > 0 {
 		return bad("fit", errors.New("a reference carries no fit result"))
 	}
+	if len(e.Fit) > 0 {
+		c, err := compactJSON(e.Fit)
+		if err != nil {
+			return bad("fit", fmt.Errorf("not valid JSON: %v", err))
+		}
+		e.Fit = c
+	}
 	id, err := ComputeID(e)
 	if err != nil {
 		return bad("fit", err)
@@ -285,10 +292,18 @@ func applyEdits(e *Entry, set map[string]string) error {
 // mainFeature returns the energy of the spectrum's main feature: for a
 // derivative spectrum the deepest minimum (the conventional derivative peak
 // energy), for a direct one the highest maximum, as lineshape's Features
-// defines PeakEnergy.
+// defines PeakEnergy. A uniform spectrum of at least 9 channels is first
+// smoothed by a 9-point quadratic Savitzky-Golay filter (the customary
+// choice Features' documentation recommends), so single noisy channels do
+// not move the feature.
 func mainFeature(s *lineshape.Spectrum) (float64, bool) {
 	if s == nil || len(s.Y) < 3 {
 		return 0, false
+	}
+	if s.Axis.Uniform() && len(s.Y) >= 9 {
+		if sm, err := s.Smooth(9, 2); err == nil {
+			s = sm
+		}
 	}
 	return s.Features(0).PeakEnergy, true
 }

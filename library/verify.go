@@ -112,19 +112,28 @@ func verifyDir(dir string, opts VerifyOptions, s *Store) (*Report, error) {
 		return p
 	}
 
-	// Leftover temporary files: only while no writer is at work (a read-only
-	// verify may run beside a writer).
-	writerIdle := opts.Repair || tryLockFree(dir)
+	// Leftover temporary files. A read-only verify may run beside a writer,
+	// so it lists temporary files first, then checks that no writer holds the
+	// lock, then that each listed file still exists: a writer that released
+	// the lock has renamed or removed its own, so those that remain are
+	// leftovers of a crash.
+	var temps []string
 	for _, sub := range []string{".", refsDir, runsDir} {
 		des, err := os.ReadDir(filepath.Join(dir, sub))
 		if err != nil {
 			continue
 		}
 		for _, de := range des {
-			if !isTempName(de.Name()) || !writerIdle {
+			if isTempName(de.Name()) {
+				temps = append(temps, filepath.Join(dir, sub, de.Name()))
+			}
+		}
+	}
+	if len(temps) > 0 && (opts.Repair || tryLockFree(dir)) {
+		for _, p := range temps {
+			if _, err := os.Lstat(p); err != nil {
 				continue
 			}
-			p := filepath.Join(dir, sub, de.Name())
 			repaired := false
 			if opts.Repair {
 				if err := os.Remove(p); err == nil {
@@ -219,7 +228,18 @@ func verifyDir(dir string, opts VerifyOptions, s *Store) (*Report, error) {
 			}
 		}
 		add(manifestName, ProblemManifest, merr.Error()+"; repair rebuilds it from the entries (the change log starts afresh)", repaired)
-	} else if maxRev > m.Revision {
+	} else if maxRev > m.Revision && !opts.Repair {
+		// Beside a writer the entry may be renamed into place before the
+		// manifest: wait for the writer to finish, then look again.
+		deadline := time.Now().Add(s.lockTimeout())
+		for !tryLockFree(dir) && time.Now().Before(deadline) {
+			time.Sleep(lockPoll)
+		}
+		if m2, err := readManifest(dir); err == nil {
+			m = m2
+		}
+	}
+	if merr == nil && maxRev > m.Revision {
 		var changes []Change
 		for _, e := range entries {
 			if e.Revision > m.Revision {
