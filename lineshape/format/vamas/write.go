@@ -1,0 +1,261 @@
+package vamas
+
+import (
+	"bufio"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+)
+
+// Write writes f to w in ISO 14976 form, one item per line, lines ending in
+// CRLF as the standard's examples do. Reals are written with the shortest
+// representation that reads back to the same float64 (NotGiven as "1E37");
+// the minimum and maximum ordinate lines are recomputed from Block.Data.
+//
+// Write checks what the grammar needs: known experiment and scan modes,
+// one value per experimental variable, Data matching the corresponding
+// variables, the right number of future upgrade block entries, finite
+// numbers, no line breaks inside text items, and, when a parameter
+// inclusion or exclusion list leaves items out of later blocks, that those
+// items equal the first block's (they could not be read back otherwise).
+func Write(w io.Writer, f *File) error {
+	if f == nil {
+		return errors.New("vamas: nil file")
+	}
+	bw := bufio.NewWriterSize(w, 1<<16)
+	if err := write(bw, f); err != nil {
+		return err
+	}
+	if err := bw.Flush(); err != nil {
+		return fmt.Errorf("vamas: %w", err)
+	}
+	return nil
+}
+
+// WriteFile writes f to path atomically: to a temporary file in the same
+// folder, synced to disk, then renamed over path.
+func WriteFile(path string, f *File) (err error) {
+	dir, base := filepath.Split(path)
+	if dir == "" {
+		dir = "."
+	}
+	tmp, err := os.CreateTemp(dir, "."+base+".tmp*")
+	if err != nil {
+		return fmt.Errorf("vamas: %w", err)
+	}
+	defer func() {
+		if err != nil {
+			tmp.Close()
+			os.Remove(tmp.Name())
+		}
+	}()
+	if err = Write(tmp, f); err != nil {
+		return err
+	}
+	if err = tmp.Sync(); err != nil {
+		return fmt.Errorf("vamas: %w", err)
+	}
+	if err = tmp.Close(); err != nil {
+		return fmt.Errorf("vamas: %w", err)
+	}
+	if err = os.Rename(tmp.Name(), path); err != nil {
+		return fmt.Errorf("vamas: %w", err)
+	}
+	if d, derr := os.Open(dir); derr == nil {
+		d.Sync() // best effort: make the rename durable
+		d.Close()
+	}
+	return nil
+}
+
+// sink is where a printer writes: a bufio.Writer or a strings.Builder.
+type sink interface {
+	WriteString(string) (int, error)
+}
+
+// printer implements codec for writing.
+type printer struct {
+	out   sink
+	block int // 0-based block, -1 in the header
+	err   error
+}
+
+func (w *printer) fail(format string, args ...any) {
+	if w.err != nil {
+		return
+	}
+	where := "vamas: "
+	if w.block >= 0 {
+		where += fmt.Sprintf("block %d: ", w.block+1)
+	}
+	w.err = errors.New(where + fmt.Sprintf(format, args...))
+}
+
+func (w *printer) line(s string) {
+	if w.err != nil {
+		return
+	}
+	w.out.WriteString(s)
+	w.out.WriteString("\r\n")
+}
+
+func (w *printer) text(what string, p *string) {
+	if strings.ContainsAny(*p, "\r\n") {
+		w.fail("%s: text contains a line break", what)
+		return
+	}
+	w.line(*p)
+}
+
+func (w *printer) real(what string, p *float64) {
+	if math.IsNaN(*p) || math.IsInf(*p, 0) {
+		w.fail("%s: %v is not a finite number", what, *p)
+		return
+	}
+	w.line(formatReal(*p))
+}
+
+func (w *printer) integer(what string, p *int) { w.line(strconv.Itoa(*p)) }
+
+func (w *printer) count(what string, p *int, per int) {
+	if *p < 0 {
+		w.fail("%s: %d is negative", what, *p)
+		return
+	}
+	w.line(strconv.Itoa(*p))
+}
+
+func (w *printer) textLines(what string, p *[]string, n int) {
+	if len(*p) != n {
+		w.fail("%s: %d lines, want %d", what, len(*p), n)
+		return
+	}
+	for i := range *p {
+		w.text(what, &(*p)[i])
+	}
+}
+
+func (w *printer) fits(string, int, int) {}
+
+func (w *printer) check(err error) {
+	if err != nil {
+		w.fail("%v", err)
+	}
+}
+
+func (w *printer) failed() bool { return w.err != nil }
+
+// formatReal prints v so that it reads back to the same float64.
+func formatReal(v float64) string {
+	if v == NotGiven {
+		return "1E37"
+	}
+	return strconv.FormatFloat(v, 'G', -1, 64)
+}
+
+func write(out sink, f *File) error {
+	w := &printer{out: out, block: -1}
+	h := *f // the grammar canonicalises modes; leave the caller's File alone
+	w.line(FormatIdentifier)
+	n := len(f.Blocks)
+	headerGrammar(w, &h, &n)
+	if w.err != nil {
+		return w.err
+	}
+	all := func(int) bool { return true }
+	for i, b := range f.Blocks {
+		w.block = i
+		if b == nil {
+			return fmt.Errorf("vamas: block %d is nil", i+1)
+		}
+		if err := checkBlock(&h, b, i); err != nil {
+			return err
+		}
+		incl := all
+		if i > 0 {
+			incl = h.Included
+			if err := checkOmitted(&h, f.Blocks[0], b, i); err != nil {
+				return err
+			}
+		}
+		blockGrammar(w, &h, b, incl, false)
+		writeOrdinates(w, b)
+		if w.err != nil {
+			return w.err
+		}
+	}
+	w.block = -1
+	w.line(Terminator)
+	return w.err
+}
+
+// checkBlock checks the lengths the grammar relies on.
+func checkBlock(f *File, b *Block, i int) error {
+	if len(b.VariableValues) != len(f.Variables) {
+		return fmt.Errorf("vamas: block %d: %d experimental variable values, want %d", i+1, len(b.VariableValues), len(f.Variables))
+	}
+	if len(b.Data) != len(b.Variables) {
+		return fmt.Errorf("vamas: block %d: %d data columns for %d corresponding variables", i+1, len(b.Data), len(b.Variables))
+	}
+	for c := range b.Data {
+		if len(b.Data[c]) != len(b.Data[0]) {
+			return fmt.Errorf("vamas: block %d: corresponding variable %d has %d values, variable 1 has %d", i+1, c+1, len(b.Data[c]), len(b.Data[0]))
+		}
+	}
+	return nil
+}
+
+// checkOmitted makes sure every item the inclusion list leaves out of block
+// i equals the first block's, comparing the items as they would be printed
+// (whatever their conditions).
+func checkOmitted(f *File, first, b *Block, i int) error {
+	for item := 1; item <= NumItems; item++ {
+		if f.Included(item) {
+			continue
+		}
+		only := func(k int) bool { return k == item }
+		var s0, s1 strings.Builder
+		p0 := &printer{out: &s0, block: 0}
+		p1 := &printer{out: &s1, block: i}
+		blockGrammar(p0, f, first, only, true)
+		blockGrammar(p1, f, b, only, true)
+		if p0.err != nil {
+			return p0.err
+		}
+		if p1.err != nil {
+			return p1.err
+		}
+		if s0.String() != s1.String() {
+			return fmt.Errorf("vamas: block %d: item %d is left out by the parameter inclusion or exclusion list but differs from block 1 (%s, block 1 %s)", i+1, item, echo(s1.String()), echo(s0.String()))
+		}
+	}
+	return nil
+}
+
+func writeOrdinates(w *printer, b *Block) {
+	nv := len(b.Data)
+	np := b.Points()
+	w.line(strconv.Itoa(nv * np))
+	for c := 0; c < nv; c++ {
+		lo, hi := NotGiven, NotGiven
+		if np > 0 {
+			lo, hi = math.Inf(1), math.Inf(-1)
+			for _, v := range b.Data[c] {
+				lo = math.Min(lo, v)
+				hi = math.Max(hi, v)
+			}
+		}
+		w.real("minimum ordinate value", &lo)
+		w.real("maximum ordinate value", &hi)
+	}
+	for i := 0; i < np; i++ {
+		for c := 0; c < nv; c++ {
+			w.real("ordinate value", &b.Data[c][i])
+		}
+	}
+}
