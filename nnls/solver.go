@@ -174,10 +174,12 @@ func (s *Solver) load(a mat.Matrix, b []float64) {
 	switch t := a.(type) {
 	case mat.RawMatrixer:
 		raw := t.RawMatrix()
-		for i := 0; i < m; i++ {
-			row := raw.Data[i*raw.Stride : i*raw.Stride+n]
-			for j, v := range row {
-				w[j*m+i] = v
+		st := raw.Stride
+		for j := 0; j < n; j++ {
+			dst := w[j*m : (j+1)*m]
+			src := raw.Data[j : j+(m-1)*st+1]
+			for i := range dst {
+				dst[i] = src[i*st]
 			}
 		}
 	case mat.Untransposer:
