@@ -264,3 +264,24 @@ func TestLikeRealData(t *testing.T) {
 	}
 	t.Logf("%v", hitNames(hits))
 }
+
+func TestCheckerForVerify(t *testing.T) {
+	st, _ := newLibrary(t, synthEntry("Ti", "metal", 0, "a"), synthEntry("Ti", "oxide", 0, "b"))
+	rep, err := st.Verify(library.VerifyOptions{CheckIndex: Checker(st.Dir())})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if rep.OK() || len(rep.Problems) == 0 || rep.Problems[0].Code != library.ProblemIndex {
+		t.Fatalf("verify without an index: %+v", rep)
+	}
+	rep, err = st.Verify(library.VerifyOptions{Repair: true, CheckIndex: Checker(st.Dir())})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !rep.OK() {
+		t.Fatalf("verify --repair left problems: %+v", rep.Problems)
+	}
+	if stale, probs, err := Check(st); stale || err != nil {
+		t.Fatalf("after repair: %v %v %v", stale, probs, err)
+	}
+}

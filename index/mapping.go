@@ -1,6 +1,9 @@
 package index
 
 import (
+	"regexp"
+	"strings"
+
 	"github.com/blevesearch/bleve/v2"
 	"github.com/blevesearch/bleve/v2/analysis/analyzer/custom"
 	"github.com/blevesearch/bleve/v2/analysis/analyzer/standard"
@@ -61,13 +64,13 @@ var fields = []Field{
 	{"note", Text, "", "free-text note", `note:"diffusion barrier"`},
 	{"sample", Text, "", "sample identifier from the source file", "sample:wafer"},
 	{"comments", Text, "", "comment lines from the source file", "comments:sputtered"},
-	{"beam_energy_kev", Numeric, "keV", "primary beam energy", "beam_energy_kev:>=9.5 beam_energy_kev:<=10.5"},
+	{"beam_energy_kev", Numeric, "keV", "primary beam energy", "+beam_energy_kev:>=9.5 +beam_energy_kev:<=10.5"},
 	{"beam_current_na", Numeric, "nA", "primary beam current", "beam_current_na:>5"},
 	{"modulation_ev", Numeric, "eV", "modulation peak-to-peak", "modulation_ev:<=2"},
 	{fieldLo, Numeric, "eV", "lowest kinetic energy of the spectrum", "energy_lo_ev:<=380"},
 	{fieldHi, Numeric, "eV", "highest kinetic energy of the spectrum", "energy_hi_ev:>=420"},
-	{fieldPeak, Numeric, "eV", "energy of the deepest derivative minimum", "peak_ev:>=380 peak_ev:<=395"},
-	{fieldFeatures, Numeric, "eV", "energies of the main derivative minima (up to 5)", "feature_ev:>=415 feature_ev:<=421"},
+	{fieldPeak, Numeric, "eV", "energy of the deepest derivative minimum", "+peak_ev:>=380 +peak_ev:<=395"},
+	{fieldFeatures, Numeric, "eV", "energies of the main derivative minima (up to 5)", "+feature_ev:>=415 +feature_ev:<=421"},
 	{"sputter_time_s", Numeric, "s", "cumulative sputter time", "sputter_time_s:>0"},
 	{"imported", DateTime, "", "when the entry was added (RFC 3339)", `imported:>="2026-01-01T00:00:00Z"`},
 	{"acquired", DateTime, "", "when the spectrum was recorded, if known (RFC 3339)", `acquired:<"2025-06-01T00:00:00Z"`},
@@ -126,4 +129,44 @@ func newMapping() (*mapping.IndexMappingImpl, error) {
 	im.DefaultMapping = doc
 	im.DefaultField = "_all"
 	return im, nil
+}
+
+// clauseField matches "name:" at the start of a query clause.
+var clauseField = regexp.MustCompile(`(?:^|[\s+\-])([A-Za-z_][A-Za-z0-9_.]*):`)
+
+// UnknownFields returns the field names a query string uses that the index
+// does not have (such clauses silently match nothing), in order of
+// appearance. Text inside double quotes is ignored.
+func UnknownFields(q string) []string {
+	var b strings.Builder
+	in := false
+	for i := 0; i < len(q); i++ {
+		c := q[i]
+		if c == '\\' && i+1 < len(q) {
+			i++
+			b.WriteString("  ")
+			continue
+		}
+		if c == '"' {
+			in = !in
+		}
+		if in {
+			b.WriteByte(' ')
+		} else {
+			b.WriteByte(c)
+		}
+	}
+	known := map[string]bool{"_all": true, "_id": true}
+	for _, f := range fields {
+		known[f.Name] = true
+	}
+	var out []string
+	seen := map[string]bool{}
+	for _, m := range clauseField.FindAllStringSubmatch(b.String(), -1) {
+		if !known[m[1]] && !seen[m[1]] {
+			seen[m[1]] = true
+			out = append(out, m[1])
+		}
+	}
+	return out
 }

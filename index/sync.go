@@ -98,7 +98,10 @@ func (x *Index) Reconcile(store *library.Store) error {
 
 func (x *Index) reconcile(ctx context.Context, store *library.Store, progress Progress) error {
 	entries, _ := store.Entries()
-	rev := store.Revision()
+	return x.reconcileEntries(ctx, entries, store.Revision(), progress)
+}
+
+func (x *Index) reconcileEntries(ctx context.Context, entries []*library.Entry, rev int, progress Progress) error {
 	have, err := x.fingerprints()
 	if err != nil {
 		return err
@@ -200,7 +203,12 @@ func Rebuild(store *library.Store) error {
 
 // RebuildContext is Rebuild with cancellation and progress reporting.
 func RebuildContext(ctx context.Context, store *library.Store, progress Progress) error {
-	libDir := store.Dir()
+	entries, _ := store.Entries()
+	return rebuildEntries(ctx, store.Dir(), entries, store.Revision(), progress)
+}
+
+// rebuildEntries is Rebuild from entries already read, at revision rev.
+func rebuildEntries(ctx context.Context, libDir string, entries []*library.Entry, rev int, progress Progress) error {
 	base := filepath.Join(libDir, Dir)
 	if err := os.MkdirAll(base, 0o755); err != nil {
 		return fmt.Errorf("index: %w", err)
@@ -222,7 +230,7 @@ func RebuildContext(ctx context.Context, store *library.Store, progress Progress
 	if err != nil {
 		return err
 	}
-	if err := fresh.reconcile(ctx, store, progress); err != nil {
+	if err := fresh.reconcileEntries(ctx, entries, rev, progress); err != nil {
 		fresh.Close()
 		_ = os.RemoveAll(tmpLib)
 		return err
@@ -267,9 +275,15 @@ func cleanTemp(base string) {
 // missing) with one line per problem. It opens the index read-only. err is
 // set only when the check itself cannot run (the index is busy).
 func Check(store *library.Store) (stale bool, problems []string, err error) {
-	x, err := Open(store.Dir(), true)
+	entries, _ := store.Entries()
+	return checkEntries(store.Dir(), entries, store.Revision())
+}
+
+// checkEntries is Check against entries already read, at revision rev.
+func checkEntries(libDir string, entries []*library.Entry, rev int) (stale bool, problems []string, err error) {
+	x, err := Open(libDir, true)
 	if errors.Is(err, ErrNotExist) {
-		return true, []string{"index: missing (run library verify --repair)"}, nil
+		return true, []string{"index: missing"}, nil
 	}
 	var busy *BusyError
 	if errors.As(err, &busy) {
@@ -289,8 +303,7 @@ func Check(store *library.Store) (stale bool, problems []string, err error) {
 	if st.VectorVersion != vectorVersion {
 		problems = append(problems, fmt.Sprintf("index: similarity vectors of layout %d, this program uses %d", st.VectorVersion, vectorVersion))
 	}
-	entries, _ := store.Entries()
-	if rev := store.Revision(); int64(rev) != st.Revision {
+	if int64(rev) != st.Revision {
 		problems = append(problems, fmt.Sprintf("index: reflects library revision %d, the library is at %d", st.Revision, rev))
 	}
 	have, err := x.fingerprints()
@@ -330,4 +343,37 @@ func Check(store *library.Store) (stale bool, problems []string, err error) {
 	list("entries indexed from an older version", outdated)
 	list("indexed entries no longer in the library", extra)
 	return len(problems) > 0, problems, nil
+}
+
+// Checker returns the index check for library verify
+// (library.VerifyOptions.CheckIndex) of the library in libDir: it reports
+// each problem Check finds with code library.ProblemIndex, and with repair
+// rebuilds the index from the entries verify read and marks the problems
+// repaired.
+func Checker(libDir string) library.IndexChecker {
+	return func(entries []*library.Entry, revision int, repair bool) ([]library.Problem, error) {
+		stale, msgs, err := checkEntries(libDir, entries, revision)
+		if err != nil {
+			return nil, err
+		}
+		if !stale {
+			return nil, nil
+		}
+		repaired := false
+		if repair {
+			if err := rebuildEntries(context.Background(), libDir, entries, revision, nil); err != nil {
+				return nil, fmt.Errorf("rebuild index: %w", err)
+			}
+			repaired = true
+		}
+		ps := make([]library.Problem, len(msgs))
+		for i, m := range msgs {
+			msg := strings.TrimPrefix(m, "index: ")
+			if !repaired {
+				msg += " (library verify --repair rebuilds it)"
+			}
+			ps[i] = library.Problem{Path: Dir, Code: library.ProblemIndex, Message: msg, Repaired: repaired}
+		}
+		return ps, nil
+	}
 }
