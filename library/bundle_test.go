@@ -27,8 +27,8 @@ func exportAll(t *testing.T, s *Store) []byte {
 
 func TestBundleRoundTrip(t *testing.T) {
 	src := newLib(t)
-	added := mustAdd(t, src, tiEntry("a", "metal", 420, 1), tiEntry("b", "oxide", 425, 2),
-		&Entry{Kind: KindMeasurement, Name: "run 1", Element: "Ti", Spectrum: synth(350, 0.5, 201, 422, 3, 80, 0.2, 3),
+	added := mustAdd(t, src, tiEntry("a", "metal", 383, 1), tiEntry("b", "oxide", 388, 2),
+		&Entry{Kind: KindMeasurement, Name: "run 1", Element: "Ti", Spectrum: synth(330, 0.5, 201, 385, 3, 80, 0.2, 3),
 			Fit: []byte(`{"schema":"statemix.fit/v1","components":[]}`)})
 	if _, _, err := src.Edit("a", map[string]string{"note": "edited before export"}); err != nil {
 		t.Fatal(err)
@@ -80,10 +80,10 @@ func TestBundleRoundTrip(t *testing.T) {
 
 func TestImportNameClash(t *testing.T) {
 	src := newLib(t)
-	mustAdd(t, src, tiEntry("Ti metal", "metal", 420, 1), tiEntry("Ti oxide", "oxide", 425, 2))
+	mustAdd(t, src, tiEntry("Ti metal", "metal", 383, 1), tiEntry("Ti oxide", "oxide", 388, 2))
 	b := exportAll(t, src)
 	dst := newLib(t)
-	mine := mustAdd(t, dst, tiEntry("Ti metal", "metal", 421, 9))
+	mine := mustAdd(t, dst, tiEntry("Ti metal", "metal", 384, 9))
 	_, err := dst.Import(bytes.NewReader(b), ImportOptions{Bundle: "other-lab.tar.gz"})
 	if !errors.Is(err, ErrBundleClash) || !strings.Contains(err.Error(), `"Ti metal"`) || !strings.Contains(err.Error(), mine[0].ID) {
 		t.Fatalf("clash: %v", err)
@@ -108,7 +108,7 @@ func TestImportNameClash(t *testing.T) {
 	}
 	// Same id, different labels: refused.
 	other := newLib(t)
-	mustAdd(t, other, tiEntry("Ti metal", "metal", 420, 1))
+	mustAdd(t, other, tiEntry("Ti metal", "metal", 383, 1))
 	if _, _, err := other.Edit("Ti metal", map[string]string{"state": "carbide"}); err != nil {
 		t.Fatal(err)
 	}
@@ -155,7 +155,7 @@ func rewriteBundle(t *testing.T, b []byte, f func(name string, data []byte) []by
 
 func TestImportBadBundles(t *testing.T) {
 	src := newLib(t)
-	mustAdd(t, src, tiEntry("a", "metal", 420, 1), tiEntry("b", "oxide", 425, 2))
+	mustAdd(t, src, tiEntry("a", "metal", 383, 1), tiEntry("b", "oxide", 388, 2))
 	good := exportAll(t, src)
 	flip := func(name string, data []byte) []byte {
 		if strings.HasPrefix(name, "refs/") {
@@ -198,7 +198,7 @@ func TestImportBadBundles(t *testing.T) {
 		}), "not valid JSON"},
 	}
 	dst := newLib(t)
-	mustAdd(t, dst, tiEntry("mine", "nitride", 430, 3))
+	mustAdd(t, dst, tiEntry("mine", "nitride", 393, 3))
 	for _, c := range cases {
 		_, err := dst.Import(bytes.NewReader(c.b), ImportOptions{Bundle: "in.tar.gz"})
 		if !errors.Is(err, ErrBadBundle) || !strings.Contains(err.Error(), c.msg) || !strings.HasPrefix(err.Error(), "in.tar.gz") {

@@ -31,7 +31,7 @@ func synth(start, step float64, n int, e0, w, a, noise float64, seed uint64) *li
 func tiEntry(name, state string, e0 float64, seed uint64) *Entry {
 	return &Entry{
 		Name: name, Element: "Ti", Transition: "L3M23M23", State: state,
-		Spectrum: synth(350, 0.5, 201, e0, 3, 100, 0.2, seed),
+		Spectrum: synth(330, 0.5, 201, e0, 3, 100, 0.2, seed),
 	}
 }
 

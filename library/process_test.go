@@ -48,7 +48,7 @@ func helper(mode string) error {
 	n, _ := strconv.Atoi(os.Getenv(helperArgEnv))
 	switch mode {
 	case "add":
-		_, _, err := s.Add(tiEntry(fmt.Sprintf("proc %d", n), "metal", 400+3*float64(n), uint64(n)))
+		_, _, err := s.Add(tiEntry(fmt.Sprintf("proc %d", n), "metal", 376+2*float64(n), uint64(n)))
 		return err
 	case "list":
 		last := 0
@@ -77,7 +77,7 @@ func helper(mode string) error {
 			}
 			return nil
 		}
-		_, _, err := s.Add(tiEntry("doomed", "oxide", 430, 99))
+		_, _, err := s.Add(tiEntry("doomed", "oxide", 393, 99))
 		return fmt.Errorf("add survived the crash hook: %v", err)
 	}
 	return fmt.Errorf("unknown helper mode %q", mode)
@@ -148,7 +148,7 @@ func TestCrashSafety(t *testing.T) {
 	for _, mode := range []string{"crash-entry", "crash-manifest"} {
 		t.Run(mode, func(t *testing.T) {
 			s := newLib(t)
-			mustAdd(t, s, tiEntry("survivor", "metal", 420, 1))
+			mustAdd(t, s, tiEntry("survivor", "metal", 383, 1))
 			c, out := startHelper(t, s.Dir(), mode, 0, time.Now())
 			err := c.Wait()
 			var ee *exec.ExitError
@@ -202,7 +202,7 @@ func TestCrashSafety(t *testing.T) {
 			if len(left)+len(left2) > 0 {
 				t.Errorf("leftovers after repair: %v %v", left, left2)
 			}
-			mustAdd(t, s2, tiEntry("after", "nitride", 440, 5))
+			mustAdd(t, s2, tiEntry("after", "nitride", 398, 5))
 		})
 	}
 }
@@ -217,7 +217,7 @@ func problemCodes(r *Report) string {
 
 func TestVerifyFindsTampering(t *testing.T) {
 	s := newLib(t)
-	added := mustAdd(t, s, tiEntry("a", "metal", 420, 1), tiEntry("b", "oxide", 425, 2), tiEntry("c", "nitride", 430, 3))
+	added := mustAdd(t, s, tiEntry("a", "metal", 383, 1), tiEntry("b", "oxide", 388, 2), tiEntry("c", "nitride", 393, 3))
 	refs := filepath.Join(s.Dir(), "refs")
 	// Altered value: hash problem.
 	p := filepath.Join(refs, added[0].ID+".json")
@@ -266,8 +266,8 @@ func TestVerifyFindsTampering(t *testing.T) {
 
 func TestVerifyRebuildsManifest(t *testing.T) {
 	s := newLib(t)
-	mustAdd(t, s, tiEntry("a", "metal", 420, 1))
-	mustAdd(t, s, tiEntry("b", "oxide", 425, 2))
+	mustAdd(t, s, tiEntry("a", "metal", 383, 1))
+	mustAdd(t, s, tiEntry("b", "oxide", 388, 2))
 	os.WriteFile(filepath.Join(s.Dir(), manifestName), []byte("garbage"), 0o644)
 	rep, err := VerifyDir(s.Dir(), VerifyOptions{})
 	if err != nil || problemCodes(rep) != ProblemManifest || rep.OK() {

@@ -9,28 +9,38 @@ import (
 	"unicode"
 
 	"statemix/lineshape"
+	"statemix/lineshape/quant"
 )
 
-// The three calls into the element and transition tables. They are kept
-// together here so that the source of each check is in one place.
+// The three calls into package quant's periodic table, transition parser
+// and Chung-Jenkins estimate are kept here.
 
 // checkElement checks an element symbol (case-sensitive, as IUPAC writes
 // it) and refuses H and He, which have no Auger transition.
 func checkElement(symbol string) error {
-	return fallbackCheckElement(symbol)
+	return quant.CheckAugerElement(symbol)
 }
 
 // checkTransition parses a transition in IUPAC / X-ray notation and
-// returns its canonical spelling.
+// returns its canonical spelling ("kl23l23" -> "KL23L23", "L2,3VV" ->
+// "L23VV").
 func checkTransition(t string) (string, error) {
-	return fallbackParseTransition(t)
+	tr, err := quant.ParseTransition(t)
+	if err != nil {
+		return "", err
+	}
+	return tr.String(), nil
 }
 
 // estimateEnergy returns the Chung-Jenkins estimate of the transition's
-// kinetic energy in eV, and false when no estimate can be made (valence
-// band transitions, missing binding energies).
-func estimateEnergy(element, transition string) (float64, bool) {
-	return 0, false
+// kinetic energy in eV (quant.EstimateEnergy, binding energies from xraylib
+// 4.0.0), or the reason there is none.
+func estimateEnergy(element, transition string) (float64, error) {
+	tr, err := quant.ParseTransition(transition)
+	if err != nil {
+		return 0, err
+	}
+	return quant.EstimateEnergy(element, tr)
 }
 
 // Plausibility limits.
@@ -322,8 +332,9 @@ func intrinsicWarnings(e *Entry) []Warning {
 	if e.Kind != KindReference || e.Element == "" || e.Transition == "" {
 		return ws
 	}
-	est, ok := estimateEnergy(e.Element, e.Transition)
-	if !ok {
+	est, err := estimateEnergy(e.Element, e.Transition)
+	if err != nil {
+		w(WarnNoEstimate, "no Chung-Jenkins estimate to check the energy against: %v", err)
 		return ws
 	}
 	feat, ok := mainFeature(e.Spectrum)
