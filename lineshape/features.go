@@ -96,41 +96,42 @@ func deepest(xs []Extremum, min bool) int {
 }
 
 // extrema returns the local maxima (or, with min, minima) of s.Y whose
-// prominence is at least thr, in channel order.
+// prominence is at least thr, in channel order. It runs in O(n): the lowest
+// value between each channel and the nearest strictly higher channel on
+// either side comes from one pass each way with a monotone stack.
 func (s *Spectrum) extrema(thr float64, min bool) []Extremum {
 	y := s.Y
 	n := len(y)
-	sign := 1.0
-	if min {
-		sign = -1
+	if n < 3 {
+		return nil
 	}
-	v := func(i int) float64 { return sign * y[i] }
+	v := y
+	if min {
+		v = make([]float64, n)
+		for i, x := range y {
+			v[i] = -x
+		}
+	}
+	left := make([]float64, n)
+	right := make([]float64, n)
+	baseMins(left, v, false)
+	baseMins(right, v, true)
 	var out []Extremum
 	for i := 1; i < n-1; {
-		if !(v(i) > v(i-1)) {
+		if !(v[i] > v[i-1]) {
 			i++
 			continue
 		}
 		// Find the end of a flat run starting at i.
 		j := i
-		for j+1 < n && v(j+1) == v(i) {
+		for j+1 < n && v[j+1] == v[i] {
 			j++
 		}
-		if j+1 >= n || !(v(j+1) < v(i)) {
+		if j+1 >= n || !(v[j+1] < v[i]) {
 			i = j + 1
 			continue
 		}
-		peak := v(i)
-		// Left base: lowest value before reaching something higher.
-		left := peak
-		for k := i - 1; k >= 0 && v(k) <= peak; k-- {
-			left = math.Min(left, v(k))
-		}
-		right := peak
-		for k := j + 1; k < n && v(k) <= peak; k++ {
-			right = math.Min(right, v(k))
-		}
-		prom := peak - math.Max(left, right)
+		prom := v[i] - math.Max(left[i], right[j])
 		if prom >= thr {
 			mid := (i + j) / 2
 			e := (s.Energy(i) + s.Energy(j)) / 2
@@ -142,6 +143,30 @@ func (s *Spectrum) extrema(thr float64, min bool) []Extremum {
 		i = j + 1
 	}
 	return out
+}
+
+// baseMins sets dst[i] to the lowest of v over the channels from i back to
+// (not including) the nearest channel before i whose value is strictly
+// higher than v[i], or to the start; with reverse, looking forward instead.
+func baseMins(dst, v []float64, reverse bool) {
+	n := len(v)
+	type entry struct {
+		val, low float64 // value at the channel; lowest value it covers
+	}
+	stack := make([]entry, 0, 64)
+	for k := 0; k < n; k++ {
+		i := k
+		if reverse {
+			i = n - 1 - k
+		}
+		low := v[i]
+		for len(stack) > 0 && stack[len(stack)-1].val <= v[i] {
+			low = math.Min(low, stack[len(stack)-1].low)
+			stack = stack[:len(stack)-1]
+		}
+		stack = append(stack, entry{v[i], low})
+		dst[i] = low
+	}
 }
 
 // parabolaVertex returns the abscissa of the vertex of the parabola through

@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"math"
+	"math/rand/v2"
 	"os"
 	"path/filepath"
 	"sort"
@@ -358,4 +359,75 @@ func ExampleSpectrum_Features() {
 	// Output:
 	// peak energy 274.02 eV, peak-to-peak 2.426
 	// minimum at 274.02 eV, prominence 1.213
+}
+
+func BenchmarkFeatures(b *testing.B) {
+	for _, n := range []int{1000, 4000} {
+		// A derivative line on a sloping background with noise, so that
+		// every few channels there is a noise extremum.
+		r := rand.New(rand.NewPCG(1, uint64(n)))
+		y := make([]float64, n)
+		for i := range y {
+			e := float64(i) * 0.25
+			y[i] = -0.01*e - (e-100)*gaussian(e, 100, 3) + 0.05*r.NormFloat64()
+		}
+		s := mustUniform(b, 0, 0.25, y, Derivative)
+		b.Run(fmt.Sprintf("channels=%d", n), func(b *testing.B) {
+			for b.Loop() {
+				s.Features(0.05)
+			}
+		})
+	}
+}
+
+// naiveProminence is the textbook definition, scanning outwards from the
+// peak run i..j of v: the reference for the O(n) stack version.
+func naiveProminence(v []float64, i, j int) float64 {
+	peak := v[i]
+	left, right := peak, peak
+	for k := i - 1; k >= 0 && v[k] <= peak; k-- {
+		left = math.Min(left, v[k])
+	}
+	for k := j + 1; k < len(v) && v[k] <= peak; k++ {
+		right = math.Min(right, v[k])
+	}
+	return peak - math.Max(left, right)
+}
+
+func TestFeaturesMatchNaive(t *testing.T) {
+	// Random walks with many ties (values rounded to a coarse grid), so that
+	// flat runs and equal heights occur; prominences must equal the
+	// outward-scan definition exactly.
+	r := rand.New(rand.NewPCG(3, 4))
+	for trial := 0; trial < 200; trial++ {
+		n := 3 + r.IntN(60)
+		y := make([]float64, n)
+		for i := 1; i < n; i++ {
+			y[i] = y[i-1] + float64(r.IntN(5)-2)
+		}
+		s := mustUniform(t, 0, 1, y, Derivative)
+		f := s.Features(1e-12)
+		neg := make([]float64, n)
+		for i, v := range y {
+			neg[i] = -v
+		}
+		for _, list := range [][]Extremum{f.Maxima, f.Minima} {
+			for _, x := range list {
+				v := y
+				if x.Minimum {
+					v = neg
+				}
+				i, j := x.Index, x.Index
+				for i > 0 && v[i-1] == v[x.Index] {
+					i--
+				}
+				for j < n-1 && v[j+1] == v[x.Index] {
+					j++
+				}
+				if want := naiveProminence(v, i, j); x.Prominence != want {
+					t.Fatalf("trial %d %v: extremum %+v: prominence %v, outward scan %v", trial, y, x, x.Prominence, want)
+				}
+			}
+		}
+	}
 }
