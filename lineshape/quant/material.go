@@ -173,7 +173,7 @@ func ResolveMaterial(formula string, o Override) (Material, error) {
 		given = append(given, "band gap")
 	}
 	switch {
-	case lookupErr != nil:
+	case lookupErr != nil || len(given) == 3:
 		m.Source = "user-given"
 	case len(given) > 0:
 		m.Source = "user-given " + strings.Join(given, ", ") + "; the rest from the " + MaterialSource
