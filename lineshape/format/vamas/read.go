@@ -279,8 +279,12 @@ func (p *parser) readOrdinates(f *File, b *Block) {
 		return
 	}
 	var n int
-	p.count("number of ordinate values", &n, 1)
+	p.integer("number of ordinate values", &n)
 	if p.err != nil {
+		return
+	}
+	if n < 0 {
+		p.fail("ordinate count %d is negative", n)
 		return
 	}
 	countLine := p.line
@@ -296,8 +300,12 @@ func (p *parser) readOrdinates(f *File, b *Block) {
 		p.fail("ordinate count %d, want a multiple of the %d corresponding variables", n, nv)
 		return
 	}
-	if rem := p.remaining(); n+2*nv > rem {
-		p.fail("ordinate count %d, but only %d lines follow (want %d with the minima and maxima)", n, rem, n+2*nv)
+	if rem := p.remaining(); n > rem || n+2*nv > rem {
+		if k, at := p.terminatorAhead(); k >= 2*nv {
+			p.fail("ordinate count %d, want %d (%q follows at line %d)", n, k-2*nv, Terminator, at)
+		} else {
+			p.fail("ordinate count %d, but only %d lines follow (want %d with the minima and maxima)", n, rem, n+2*nv)
+		}
 		return
 	}
 	b.Min = make([]float64, nv)
@@ -319,7 +327,7 @@ func (p *parser) readOrdinates(f *File, b *Block) {
 		v, err := parseReal(s)
 		if err != nil {
 			if strings.EqualFold(strings.TrimSpace(s), Terminator) {
-				p.failAt(countLine, "ordinate count %d, want %d (line %d is %q)", n, i, p.line, Terminator)
+				p.failAt(countLine, "ordinate count %d, want %d (%q follows at line %d)", n, i, Terminator, p.line)
 			} else {
 				p.fail("ordinate value %d of %d: %v", i+1, n, err)
 			}
@@ -357,6 +365,28 @@ func clearInapplicable(f *File, b *Block) {
 		b.SputterEnergy, b.SputterCurrent, b.SputterWidthX, b.SputterWidthY = 0, 0, 0, 0
 		b.SputterPolar, b.SputterAzimuth, b.SputterMode = 0, 0, ""
 	}
+}
+
+// terminatorAhead returns how many lines come before the next line that
+// reads "end of experiment", and that line's number; k is -1 if there is
+// none. It reads ahead without consuming or allocating.
+func (p *parser) terminatorAhead() (k, line int) {
+	off := p.off
+	for i := 0; p.line+i < p.total; i++ {
+		rest := p.src[off:]
+		j := strings.IndexByte(rest, p.sep)
+		s := rest
+		if j >= 0 {
+			s = rest[:j]
+			off += j + 1
+		} else {
+			off = len(p.src)
+		}
+		if strings.EqualFold(strings.TrimSpace(s), Terminator) {
+			return i, p.line + i + 1
+		}
+	}
+	return -1, 0
 }
 
 // cloneHeader returns a deep copy of b without its ordinates: the starting
@@ -423,7 +453,7 @@ func parseInt(s string) (int, error) {
 		return 0, fmt.Errorf("blank line, want an integer")
 	}
 	if v, err := strconv.ParseInt(t, 10, 64); err == nil {
-		if v > 1<<40 || v < -(1 << 40) {
+		if v > 1<<40 || v < -(1<<40) {
 			return 0, fmt.Errorf("%s is out of range", echo(s))
 		}
 		return int(v), nil

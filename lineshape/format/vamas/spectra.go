@@ -589,6 +589,8 @@ func blockFrom(f *File, s *lineshape.Spectrum, i, n int) (*Block, error) {
 		b.Variables = []Variable{{Label: "Kinetic Energy", Unit: "eV"}, {Label: label, Unit: unit}}
 		b.Data = [][]float64{s.Axis.Energies(), y}
 	}
+	b.Min, b.Max = minMax(b.Data)
+	clearInapplicable(f, b)
 	return b, nil
 }
 

@@ -38,7 +38,8 @@ func Write(w io.Writer, f *File) error {
 }
 
 // WriteFile writes f to path atomically: to a temporary file in the same
-// folder, synced to disk, then renamed over path.
+// folder, synced to disk, then renamed over path (keeping the mode of a
+// file it replaces, else 0644). On error path is left as it was.
 func WriteFile(path string, f *File) (err error) {
 	dir, base := filepath.Split(path)
 	if dir == "" {
@@ -54,6 +55,13 @@ func WriteFile(path string, f *File) (err error) {
 			os.Remove(tmp.Name())
 		}
 	}()
+	perm := os.FileMode(0o644) // CreateTemp makes 0600; give the file the usual mode
+	if fi, serr := os.Stat(path); serr == nil {
+		perm = fi.Mode().Perm() // keep the mode of the file being replaced
+	}
+	if err = tmp.Chmod(perm); err != nil {
+		return fmt.Errorf("vamas: %w", err)
+	}
 	if err = Write(tmp, f); err != nil {
 		return err
 	}
@@ -241,21 +249,31 @@ func writeOrdinates(w *printer, b *Block) {
 	nv := len(b.Data)
 	np := b.Points()
 	w.line(strconv.Itoa(nv * np))
+	lo, hi := minMax(b.Data)
 	for c := 0; c < nv; c++ {
-		lo, hi := NotGiven, NotGiven
-		if np > 0 {
-			lo, hi = math.Inf(1), math.Inf(-1)
-			for _, v := range b.Data[c] {
-				lo = math.Min(lo, v)
-				hi = math.Max(hi, v)
-			}
-		}
-		w.real("minimum ordinate value", &lo)
-		w.real("maximum ordinate value", &hi)
+		w.real("minimum ordinate value", &lo[c])
+		w.real("maximum ordinate value", &hi[c])
 	}
 	for i := 0; i < np; i++ {
 		for c := 0; c < nv; c++ {
 			w.real("ordinate value", &b.Data[c][i])
 		}
 	}
+}
+
+// minMax returns the minimum and maximum of each column (NotGiven for an
+// empty one).
+func minMax(data [][]float64) (lo, hi []float64) {
+	lo, hi = make([]float64, len(data)), make([]float64, len(data))
+	for c, d := range data {
+		lo[c], hi[c] = NotGiven, NotGiven
+		if len(d) > 0 {
+			lo[c], hi[c] = math.Inf(1), math.Inf(-1)
+			for _, v := range d {
+				lo[c] = math.Min(lo[c], v)
+				hi[c] = math.Max(hi[c], v)
+			}
+		}
+	}
+	return lo, hi
 }
