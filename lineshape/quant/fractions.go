@@ -153,3 +153,23 @@ func AtomicFractionSamples(samples [][]float64, factors []float64) (xs [][]float
 	}
 	return xs, mean, sd, skipped, nil
 }
+
+// StandardFactor returns the factor F = N L (1 + r) of AtomicFractions for
+// element in the standard material m at the transition's kinetic energy
+// energyEV: N by AtomicDensity, L by TPP2M (whose result, with any
+// warnings, is returned too), r the backscattering factor (0 to take it
+// equal for all standards).
+func StandardFactor(m Material, element string, energyEV, backscatter float64) (float64, IMFPResult, error) {
+	n, err := AtomicDensity(m, element)
+	if err != nil {
+		return 0, IMFPResult{}, err
+	}
+	l, err := TPP2M(m, energyEV)
+	if err != nil {
+		return 0, l, err
+	}
+	if !(backscatter > -1) || math.IsInf(backscatter, 0) {
+		return 0, l, fmt.Errorf("standard factor: backscattering factor %g must exceed -1", backscatter)
+	}
+	return Factor(n, l.IMFP, backscatter), l, nil
+}

@@ -1,6 +1,7 @@
 package quant
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"strings"
@@ -147,4 +148,60 @@ func TestAtomicFractionsErrors(t *testing.T) {
 		}
 	}()
 	AtomicFractions([]float64{1, 1}, nil, []float64{1})
+}
+
+// TestStandardFactor: Si metal and SiO2 at the Si LVV energy (92 eV):
+// the factor is the product of AtomicDensity and TPP2M (exact), and the
+// metal fraction of a 0.5/0.5 fit moves from 0.695 (equal L) towards the
+// oxide because the oxide's IMFP is longer.
+func TestStandardFactor(t *testing.T) {
+	si, _ := LookupMaterial("Si")
+	ox, _ := LookupMaterial("SiO2")
+	fs, ls, err := StandardFactor(si, "Si", 92, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	fo, lo, err := StandardFactor(ox, "Si", 92, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ns, _ := AtomicDensity(si, "Si")
+	if !scalar.EqualWithinRel(fs, ns*ls.IMFP, 1e-15) {
+		t.Errorf("factor %g, want N L %g", fs, ns*ls.IMFP)
+	}
+	x, _, _ := AtomicFractions([]float64{0.5, 0.5}, nil, []float64{fs, fo})
+	if !(lo.IMFP > ls.IMFP) || !(x[0] < 0.695) || !(x[0] > 0.5) {
+		t.Errorf("L(Si) %g, L(SiO2) %g nm, X(Si) %g", ls.IMFP, lo.IMFP, x[0])
+	}
+	if _, _, err := StandardFactor(si, "Si", 92, -1); err == nil {
+		t.Error("backscattering -1 accepted")
+	}
+}
+
+func BenchmarkAtomicFractions(b *testing.B) {
+	for _, n := range []int{2, 8} {
+		b.Run(fmt.Sprintf("n=%d", n), func(b *testing.B) {
+			c := make([]float64, n)
+			f := make([]float64, n)
+			cov := mat.NewSymDense(n, nil)
+			for i := range c {
+				c[i] = float64(i + 1)
+				f[i] = 1e22 * float64(n-i)
+				cov.SetSym(i, i, 0.01)
+			}
+			for b.Loop() {
+				_, _, _ = AtomicFractions(c, cov, f)
+			}
+		})
+	}
+}
+
+func BenchmarkParseFormula(b *testing.B) {
+	for _, s := range []string{"Al2O3", "K4[Fe(CN)6]"} {
+		b.Run("formula="+s, func(b *testing.B) {
+			for b.Loop() {
+				_, _ = ParseFormula(s)
+			}
+		})
+	}
 }

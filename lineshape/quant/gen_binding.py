@@ -4,9 +4,10 @@ from xraylib 4.0.0 (Debian package python3-xraylib).
 
 Run from this folder with Debian's interpreter (not a pyenv one):
 
-    /usr/bin/python3 gen_binding.py
+    /usr/bin/python3 gen_binding.py [OUTPUT]
 
-or `go generate ./lineshape/quant/`. The output is committed; Go code and
+(OUTPUT defaults to binding_gen.go; the Go test that checks the committed
+file is up to date writes elsewhere), or `go generate ./lineshape/quant/`. The output is committed; Go code and
 tests never need Python.
 """
 import sys
@@ -74,7 +75,8 @@ def main():
     for z in range(1, ZMAX + 1):
         w('\t%d: "%s",\n' % (z, xraylib.AtomicNumberToSymbol(z)))
     w("}\n")
-    with open("binding_gen.go", "w") as f:
+    path = sys.argv[1] if len(sys.argv) > 1 else "binding_gen.go"
+    with open(path, "w") as f:
         f.write("".join(out))
 
 

@@ -155,7 +155,6 @@ func ParseTransition(s string) (Transition, error) {
 			return Transition{}, fmt.Errorf("transition %q: position %d: %q is not a shell letter (K, L, M, N, O, P or V for the valence band)", s, i+1, s[i])
 		}
 		lv := Level{Shell: Shell(sh)}
-		at := i
 		i++
 		last := 0
 		for i < len(s) && (s[i] >= '0' && s[i] <= '9' || s[i] == ',') {
@@ -179,7 +178,6 @@ func ParseTransition(s string) (Transition, error) {
 			last = d
 			i++
 		}
-		_ = at
 		levels = append(levels, lv)
 		if len(levels) > 3 {
 			return Transition{}, fmt.Errorf("transition %q: more than three levels (an Auger transition is W X Y)", s)
