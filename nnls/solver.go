@@ -144,33 +144,50 @@ func (s *Solver) Solve(dst *Result, a mat.Matrix, b []float64, free []bool) erro
 	if dst == nil {
 		panic("nnls: nil Result")
 	}
+	rho0, err := s.prepare(a, b, free)
+	if err != nil {
+		return err
+	}
+	err = s.activeSet()
+	s.fill(dst, rho0)
+	return err
+}
+
+// prepare factors A and checks it: on success s.t holds the column-scaled
+// R, s.c holds Q^T b, s.d the column norms, and rho0 is the norm of the
+// part of b outside the range of A.
+func (s *Solver) prepare(a mat.Matrix, b []float64, free []bool) (rho0 float64, err error) {
+	m, n := a.Dims()
 	s.resize(m, n)
 	for j := range s.fr {
 		s.fr[j] = free != nil && free[j]
 	}
 	s.load(a, b)
-	rho0 := s.factor()
+	rho0 = s.factor()
 	if err := s.checkFinite(a, b, rho0); err != nil {
-		return err
+		return 0, err
 	}
 	for j := 0; j < n; j++ {
 		if s.d[j] == 0 {
-			return &RankError{Columns: []int{j}, Cond: math.Inf(1), Limit: s.Settings.maxCond()}
+			return 0, &RankError{Columns: []int{j}, Cond: math.Inf(1), Limit: s.Settings.maxCond()}
 		}
 	}
 	s.scaleR()
 	if err := checkRank(s.t, n, s.tinv, s.Settings.maxCond()); err != nil {
-		return err
+		return 0, err
 	}
-	err := s.activeSet()
-	s.fill(dst, rho0)
-	return err
+	return rho0, nil
 }
 
 // load copies A into column-major storage and b into qb.
 func (s *Solver) load(a mat.Matrix, b []float64) {
-	m, n := s.m, s.n
-	w := s.w
+	loadColMajor(s.w, a)
+	copy(s.qb, b)
+}
+
+// loadColMajor copies the m x n matrix a into w, column j at w[j*m:].
+func loadColMajor(w []float64, a mat.Matrix) {
+	m, n := a.Dims()
 	switch t := a.(type) {
 	case mat.RawMatrixer:
 		raw := t.RawMatrix()
@@ -194,7 +211,6 @@ func (s *Solver) load(a mat.Matrix, b []float64) {
 	default:
 		loadAt(w, a, m, n)
 	}
-	copy(s.qb, b)
 }
 
 func loadAt(w []float64, a mat.Matrix, m, n int) {
