@@ -246,7 +246,7 @@ func (m *Model) result(w *worker, y []float64, sol solution) (*Result, error) {
 	if qu.DOF > 0 && qu.NoiseSD > 0 {
 		qu.Chi2Reduced = rss / float64(qu.DOF) / (qu.NoiseSD * qu.NoiseSD)
 	}
-	qu.CorrelationFactor, qu.CorrelationLags = correlationFactor(cv.Residual)
+	qu.CorrelationFactor, qu.CorrelationLags = correlationFactor(cv.Residual, np)
 	res.Quality = qu
 	if qu.DOF <= 0 {
 		return nil, inputErr(m.unknownLabel, "%d channels for %d parameters: no degrees of freedom left", n, np)
@@ -311,7 +311,12 @@ func highPassNoise(r []float64) float64 {
 // correlationFactor returns 1 + 2 sum_k rho_k over the lags k = 1, 2, ...
 // while rho_k stays above 2/sqrt(n) (the 95 % band of a white residual),
 // at most n/4 lags, and the number of lags summed. It is at least 1.
-func correlationFactor(r []float64) (float64, int) {
+//
+// The residuals of a least-squares fit with p parameters smooth across the
+// window are (I - H) times the noise, H the hat matrix, whose elements near
+// the diagonal are about p/n; so each short-lag autocorrelation of the
+// residual is biased by about -p/n, and p/n is added back.
+func correlationFactor(r []float64, p int) (float64, int) {
 	n := len(r)
 	mean := 0.0
 	for _, v := range r {
@@ -325,14 +330,15 @@ func correlationFactor(r []float64) (float64, int) {
 	if c0 == 0 {
 		return 1, 0
 	}
-	thr := 2 / math.Sqrt(float64(n))
+	thr := 1.5 / math.Sqrt(float64(n))
+	bias := float64(p) / float64(n)
 	f, lags := 1.0, 0
 	for k := 1; k <= n/4; k++ {
 		ck := 0.0
 		for i := 0; i+k < n; i++ {
 			ck += (r[i] - mean) * (r[i+k] - mean)
 		}
-		rho := ck / c0
+		rho := ck/c0 + bias
 		if rho < thr {
 			break
 		}

@@ -14,10 +14,8 @@ import (
 	"statemix/lineshape"
 )
 
-const (
-	z975 = 1.959963984540054 // standard normal 97.5 % quantile
-	z95  = 1.6448536269514722 // standard normal 95 % quantile
-)
+// z975 is the standard normal 97.5 % quantile.
+const z975 = 1.959963984540054
 
 // covariance fills Covariance, Params and (for the Covariance method) the
 // SDs and intervals of res.
@@ -89,6 +87,12 @@ func (m *Model) covariance(w *worker, res *Result, sol solution) error {
 	if m.opts.Uncertainty != Covariance {
 		return nil
 	}
+	// Intervals use Student's t with the effective degrees of freedom
+	// n/f - p: the residual variance and the correlation factor are
+	// themselves estimated, from about n/f independent channels.
+	nu := math.Max(1, float64(qu.Points)/qu.CorrelationFactor-float64(qu.Points-qu.DOF))
+	t975 := distuv.StudentsT{Mu: 0, Sigma: 1, Nu: nu}.Quantile(0.975)
+	t95 := distuv.StudentsT{Mu: 0, Sigma: 1, Nu: nu}.Quantile(0.95)
 	// Coefficients and shifts.
 	for a, i := range active {
 		c := &res.Components[i]
@@ -100,27 +104,23 @@ func (m *Model) covariance(w *worker, res *Result, sol solution) error {
 		}
 	}
 	// Fractions by the delta method: df_i/dc_j = (delta_ij - f_i) / S.
+	grad := make([]float64, len(active))
 	for a, i := range active {
 		fi := res.Components[i].Fraction
+		for b := range active {
+			grad[b] = -fi / sum
+		}
+		grad[a] += 1 / sum
 		v := 0.0
-		for b, jb := range active {
-			ga := -fi / sum
-			if a == b {
-				ga += 1 / sum
+		for b := range active {
+			for c2 := range active {
+				v += grad[b] * cov.At(b, c2) * grad[c2]
 			}
-			for c2, jc := range active {
-				gc := -res.Components[jc].Fraction / sum
-				if jc == i {
-					gc += 1 / sum
-				}
-				v += ga * cov.At(b, c2) * gc
-			}
-			_ = jb
 		}
 		sd := math.Sqrt(math.Max(v, 0))
 		c := &res.Components[i]
 		c.FractionSD = sd
-		c.FractionCI95 = [2]float64{math.Max(0, fi-z975*sd), math.Min(1, fi+z975*sd)}
+		c.FractionCI95 = [2]float64{math.Max(0, fi-t975*sd), math.Min(1, fi+t975*sd)}
 	}
 	// Components at zero: the SD of their coefficient if it were free,
 	// for a one-sided upper limit.
@@ -140,7 +140,7 @@ func (m *Model) covariance(w *worker, res *Result, sol solution) error {
 		sd := math.Sqrt(cz.At(0, 0))
 		cc.CoefficientSD = sd
 		cc.FractionSD = sd / sum
-		cc.FractionCI95 = [2]float64{0, math.Min(1, z95*sd/sum)}
+		cc.FractionCI95 = [2]float64{0, math.Min(1, t95*sd/sum)}
 	}
 	return nil
 }
@@ -190,13 +190,25 @@ func scaledCopy(v []float64, s float64) []float64 {
 }
 
 // blockLength returns the moving-block length in channels for n channels
-// whose residual is correlated over lags lags: at least n^(1/3), and five
-// times the correlation length so that the block bootstrap keeps most of
-// the long-run variance, at most n/5.
-func blockLength(n, lags int) int {
+// whose residual is correlated over lags lags, for a fit of p parameters:
+// at least n^(1/3) (the usual rate for variance estimation, Kuensch 1989)
+// and 2 lags + 1, so that a block spans the correlation in both directions;
+// at most n / (2p), so that the inflation of blockInflation stays below 2.
+func blockLength(n, lags, p int) int {
 	l := int(math.Ceil(math.Cbrt(float64(n))))
-	l = max(l, 5*lags)
-	return max(1, min(l, n/5))
+	l = max(l, 2*lags+1)
+	return max(1, min(l, n/(2*max(p, 1))))
+}
+
+// blockInflation returns the factor by which the centred residuals are
+// multiplied before block resampling. The fit removes from the residual
+// the components along its p (smooth) Jacobian columns; a sum over a block
+// of L channels loses about L p / n of its variance (the hat matrix has
+// elements of about p/n near the diagonal), which would make the block
+// bootstrap too narrow. sqrt(n / (n - L p)) restores it; for L = 1 it is
+// the familiar sqrt(n / (n - p)).
+func blockInflation(n, L, p int) float64 {
+	return math.Sqrt(float64(n) / float64(n-L*p))
 }
 
 // bootstrap fills Samples, SDs and percentile intervals of res.
@@ -225,11 +237,12 @@ func (m *Model) bootstrap(ctx context.Context, res *Result, u *lineshape.Spectru
 			mean += r
 		}
 		mean /= float64(n)
-		infl := math.Sqrt(float64(n) / float64(res.Quality.DOF))
+		p := res.Quality.Points - res.Quality.DOF
+		smp.BlockLength = blockLength(n, res.Quality.CorrelationLags, p)
+		infl := blockInflation(n, smp.BlockLength, p)
 		for j, r := range res.Curves.Residual {
 			resid[j] = (r - mean) * infl
 		}
-		smp.BlockLength = blockLength(n, res.Quality.CorrelationLags)
 	}
 	coef := make([][]float64, B)
 	shifts := make([][]float64, B)
