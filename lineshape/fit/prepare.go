@@ -52,10 +52,10 @@ type Model struct {
 	basis        [][]float64 // Legendre background columns
 	basisGram    []float64   // basis_a . basis_b, q x q
 	curves       []*lineshape.Curve
-	bound        float64     // |shift| bound, 0 for ShiftNone
-	shifts       []float64   // scan grid of shifts, eV
+	bound        float64       // |shift| bound, 0 for ShiftNone
+	shifts       []float64     // scan grid of shifts, eV
 	tables       [][][]float64 // [ref][shift][channel]
-	refScale     []float64   // normalisation scale of each reference (1 if none)
+	refScale     []float64     // normalisation scale of each reference (1 if none)
 	warnings     []string
 	unknownLabel string
 }

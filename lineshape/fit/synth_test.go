@@ -2,7 +2,6 @@ package fit
 
 import (
 	"math"
-	"os"
 	"math/rand/v2"
 
 	"statemix/lineshape"
@@ -163,16 +162,10 @@ func noisy(d, dir []float64, snr float64, smooth bool, rng *rand.Rand) (y []floa
 	}
 	y = make([]float64, n)
 	for i := range y {
-		w := math.Sqrt(dir[i]) / meanSqrt
-		if homosced {
-			w = 1
-		}
-		y[i] = d[i] + sigma*w*z[i]
+		y[i] = d[i] + sigma*math.Sqrt(dir[i])/meanSqrt*z[i]
 	}
 	return y, sigma
 }
-
-var homosced = os.Getenv("HOMO") != ""
 
 func unknownSpectrum(lo, step float64, y []float64) *lineshape.Spectrum {
 	s, err := lineshape.NewUniform(lo, step, y, lineshape.Derivative)
