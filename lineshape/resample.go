@@ -57,11 +57,25 @@ func (s *Spectrum) Curve() *Curve {
 		panic("lineshape: Curve: " + err.Error())
 	}
 	xs := s.Axis.Energies()
-	n := len(xs)
 	var fb interp.FritschButland
 	if err := fb.Fit(xs, s.Y); err != nil {
 		panic("lineshape: Curve: " + err.Error())
 	}
+	// The node derivative gonum chose is what PredictDerivative returns at
+	// the node itself.
+	d := make([]float64, len(xs))
+	for i, x := range xs {
+		d[i] = fb.PredictDerivative(x)
+	}
+	return s.hermite(d)
+}
+
+// hermite returns the Curve through s's samples with node derivatives d
+// (value per eV), one cubic Hermite polynomial per interval. s must be
+// valid and len(d) == s.Len().
+func (s *Spectrum) hermite(d []float64) *Curve {
+	xs := s.Axis.Energies()
+	n := len(xs)
 	c := &Curve{lo: xs[0], hi: xs[n-1], n: n, first: s.Y[0], last: s.Y[n-1]}
 	c.c = make([]float64, 4*(n-1))
 	if s.Axis.Uniform() {
@@ -70,11 +84,7 @@ func (s *Spectrum) Curve() *Curve {
 		c.xs = xs
 		c.invh = make([]float64, n-1)
 	}
-	// The node derivative gonum chose is what PredictDerivative returns at
-	// the node itself.
-	d0 := fb.PredictDerivative(xs[0])
 	for j := 0; j < n-1; j++ {
-		d1 := fb.PredictDerivative(xs[j+1])
 		h := xs[j+1] - xs[j]
 		if s.Axis.Uniform() {
 			h = s.Axis.Step
@@ -82,13 +92,12 @@ func (s *Spectrum) Curve() *Curve {
 			c.invh[j] = 1 / h
 		}
 		y0, y1 := s.Y[j], s.Y[j+1]
-		m0, m1 := d0*h, d1*h
+		m0, m1 := d[j]*h, d[j+1]*h
 		k := 4 * j
 		c.c[k] = y0
 		c.c[k+1] = m0
 		c.c[k+2] = 3*(y1-y0) - 2*m0 - m1
 		c.c[k+3] = 2*(y0-y1) + m0 + m1
-		d0 = d1
 	}
 	return c
 }
