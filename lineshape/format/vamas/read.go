@@ -40,15 +40,15 @@ func ReadFile(path string) (*File, error) {
 	return Read(bufio.NewReaderSize(fh, 1<<16), path)
 }
 
-// parser reads the file line by line. It implements codec.
+// parser reads the file line by line. It implements codec. Lines end at
+// CRLF, LF or a lone CR, so no text item can hold a line break.
 type parser struct {
 	name  string
 	src   string
-	sep   byte // line separator: '\n', or '\r' for CR-only files
-	off   int  // offset of the next line in src
-	line  int  // 1-based number of the line last read
-	total int  // number of lines in src
-	block int  // 0-based block being read, -1 in the header
+	off   int // offset of the next line in src
+	line  int // 1-based number of the line last read
+	total int // number of lines in src
+	block int // 0-based block being read, -1 in the header
 	err   error
 
 	// budget bounds the values copied from the first block into later
@@ -58,16 +58,37 @@ type parser struct {
 }
 
 func newParser(src, name string) *parser {
-	p := &parser{name: name, src: src, sep: '\n', block: -1}
-	if strings.IndexByte(src, '\n') < 0 && strings.IndexByte(src, '\r') >= 0 {
-		p.sep = '\r'
+	p := &parser{name: name, src: src, block: -1}
+	for i := 0; i < len(src); i++ {
+		switch src[i] {
+		case '\n':
+			p.total++
+		case '\r':
+			if i+1 < len(src) && src[i+1] == '\n' {
+				i++
+			}
+			p.total++
+		}
 	}
-	p.total = strings.Count(src, string(p.sep))
-	if len(src) > 0 && src[len(src)-1] != p.sep {
+	if n := len(src); n > 0 && src[n-1] != '\n' && src[n-1] != '\r' {
 		p.total++
 	}
 	p.budget = 8*p.total + 1<<20
 	return p
+}
+
+// lineAt returns the line starting at off and the offset after its end.
+func (p *parser) lineAt(off int) (string, int) {
+	rest := p.src[off:]
+	i := strings.IndexAny(rest, "\r\n")
+	if i < 0 {
+		return rest, len(p.src)
+	}
+	next := off + i + 1
+	if rest[i] == '\r' && i+1 < len(rest) && rest[i+1] == '\n' {
+		next++
+	}
+	return rest[:i], next
 }
 
 // remaining is the number of lines not read yet.
@@ -79,18 +100,7 @@ func (p *parser) next() (s string, ok bool) {
 	if p.line >= p.total {
 		return "", false
 	}
-	rest := p.src[p.off:]
-	i := strings.IndexByte(rest, p.sep)
-	if i < 0 {
-		s = rest
-		p.off = len(p.src)
-	} else {
-		s = rest[:i]
-		p.off += i + 1
-	}
-	if p.sep == '\n' && len(s) > 0 && s[len(s)-1] == '\r' {
-		s = s[:len(s)-1]
-	}
+	s, p.off = p.lineAt(p.off)
 	p.line++
 	return s, true
 }
@@ -373,15 +383,8 @@ func clearInapplicable(f *File, b *Block) {
 func (p *parser) terminatorAhead() (k, line int) {
 	off := p.off
 	for i := 0; p.line+i < p.total; i++ {
-		rest := p.src[off:]
-		j := strings.IndexByte(rest, p.sep)
-		s := rest
-		if j >= 0 {
-			s = rest[:j]
-			off += j + 1
-		} else {
-			off = len(p.src)
-		}
+		var s string
+		s, off = p.lineAt(off)
 		if strings.EqualFold(strings.TrimSpace(s), Terminator) {
 			return i, p.line + i + 1
 		}

@@ -649,3 +649,23 @@ func TestMetaBridge(t *testing.T) {
 		t.Errorf("extra %v", m.Extra)
 	}
 }
+
+// TestOmittedInapplicable: an omitted item that a later block's own
+// conditions leave out anyway (the differential width of an XPS block)
+// does not stop Write, and the file reads back the same.
+func TestOmittedInapplicable(t *testing.T) {
+	f := fullFile(ModeNORM, ScanRegular)
+	f.ParamList, f.ParamListExcludes = []int{ItemDiffWidth}, true
+	// Block 1 is AES diff (width 2.5); blocks 2 and 3 are XPS and SIMS.
+	g, _ := roundTrip(t, f)
+	sameFile(t, f, g)
+	// An AES diff block with its own width cannot omit the width.
+	f.Blocks[2].Technique, f.Blocks[2].DifferentialWidth = "AES diff", 4
+	err := Write(&bytes.Buffer{}, f)
+	if err == nil || !strings.Contains(err.Error(), "block 3: item 24") {
+		t.Errorf("Write: %v, want an error naming block 3 and item 24", err)
+	}
+	f.Blocks[2].DifferentialWidth = 2.5 // the first block's: fine
+	g, _ = roundTrip(t, f)
+	sameFile(t, f, g)
+}

@@ -176,6 +176,7 @@ func write(out sink, f *File) error {
 		return w.err
 	}
 	all := func(int) bool { return true }
+	var first *Block
 	for i, b := range f.Blocks {
 		w.block = i
 		if b == nil {
@@ -185,9 +186,12 @@ func write(out sink, f *File) error {
 			return err
 		}
 		incl := all
-		if i > 0 {
+		if i == 0 && len(h.ParamList) > 0 {
+			first = readBack(&h, b)
+		}
+		if i > 0 && len(h.ParamList) > 0 {
 			incl = h.Included
-			if err := checkOmitted(&h, f.Blocks[0], b, i); err != nil {
+			if err := checkOmitted(&h, first, b, i); err != nil {
 				return err
 			}
 		}
@@ -218,31 +222,64 @@ func checkBlock(f *File, b *Block, i int) error {
 	return nil
 }
 
-// checkOmitted makes sure every item the inclusion list leaves out of block
-// i equals the first block's, comparing the items as they would be printed
-// (whatever their conditions).
+// checkOmitted makes sure block i reads back as written when the
+// parameter list leaves items out: it reads the block's text the way Read
+// does (starting from the first block as Read would have it) and compares
+// every item and the data. first is the first block as Read returns it.
 func checkOmitted(f *File, first, b *Block, i int) error {
+	var sb strings.Builder
+	w := &printer{out: &sb, block: i}
+	blockGrammar(w, f, b, f.Included, false)
+	writeOrdinates(w, b)
+	if w.err != nil {
+		return w.err
+	}
+	want := b.cloneHeader()
+	want.Data = b.Data
+	clearInapplicable(f, want)
+	p := newParser(sb.String(), "")
+	p.block = i
+	back := first.cloneHeader()
+	blockGrammar(p, f, back, f.Included, false)
+	p.readOrdinates(f, back)
+	clearInapplicable(f, back)
+	if p.err == nil && blockText(f, back) == blockText(f, want) {
+		return nil
+	}
+	// Name the first omitted item that differs from the first block.
 	for item := 1; item <= NumItems; item++ {
 		if f.Included(item) {
 			continue
 		}
-		only := func(k int) bool { return k == item }
-		var s0, s1 strings.Builder
-		p0 := &printer{out: &s0, block: 0}
-		p1 := &printer{out: &s1, block: i}
-		blockGrammar(p0, f, first, only, true)
-		blockGrammar(p1, f, b, only, true)
-		if p0.err != nil {
-			return p0.err
-		}
-		if p1.err != nil {
-			return p1.err
-		}
-		if s0.String() != s1.String() {
-			return fmt.Errorf("vamas: block %d: item %d is left out by the parameter inclusion or exclusion list but differs from block 1 (%s, block 1 %s)", i+1, item, echo(s1.String()), echo(s0.String()))
+		if a, z := itemText(f, first, item), itemText(f, want, item); a != z {
+			return fmt.Errorf("vamas: block %d: item %d is left out by the parameter inclusion or exclusion list but differs from block 1 (%s, block 1 %s)", i+1, item, echo(z), echo(a))
 		}
 	}
-	return nil
+	return fmt.Errorf("vamas: block %d: does not read back as written under the parameter inclusion or exclusion list", i+1)
+}
+
+// blockText prints every item of b whatever its conditions, and its data.
+func blockText(f *File, b *Block) string {
+	var sb strings.Builder
+	w := &printer{out: &sb}
+	blockGrammar(w, f, b, func(int) bool { return true }, true)
+	writeOrdinates(w, b)
+	return sb.String()
+}
+
+// itemText prints one item of b whatever its conditions.
+func itemText(f *File, b *Block, item int) string {
+	var sb strings.Builder
+	blockGrammar(&printer{out: &sb}, f, b, func(k int) bool { return k == item }, true)
+	return sb.String()
+}
+
+// readBack returns the first block as Read would return it.
+func readBack(f *File, b *Block) *Block {
+	c := b.cloneHeader()
+	c.Data = b.Data
+	clearInapplicable(f, c)
+	return c
 }
 
 func writeOrdinates(w *printer, b *Block) {
