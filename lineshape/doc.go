@@ -72,8 +72,9 @@
 //
 // Lock-in emulation (LockIn) evaluates the first-harmonic amplitude of a
 // sinusoidal modulation of peak-to-peak amplitude k by its defining phase
-// integral; the result equals (N' * w)(E), w a unit-area semicircle of
-// radius k/2. Integrate goes back from derivative to direct with a linear
+// integral, on the not-a-knot cubic spline through the samples (accuracy
+// matters there more than monotonicity; LockIn documents the error); the
+// result equals (N' * w)(E), w a unit-area semicircle of radius k/2. Integrate goes back from derivative to direct with a linear
 // baseline through the ends. Features uses topographic prominence and the
 // conventional derivative peak energy (the minimum of the high-energy
 // negative excursion, common practice).
