@@ -213,3 +213,16 @@ func lessBound(l, w Level) bool {
 	}
 	return l.minSub() > w.maxSub()
 }
+
+// MarshalText writes the transition in canonical notation (String).
+func (t Transition) MarshalText() ([]byte, error) { return []byte(t.String()), nil }
+
+// UnmarshalText parses notation as ParseTransition does.
+func (t *Transition) UnmarshalText(b []byte) error {
+	p, err := ParseTransition(string(b))
+	if err != nil {
+		return err
+	}
+	*t = p
+	return nil
+}

@@ -1,6 +1,7 @@
 package quant
 
 import (
+	"encoding/json"
 	"strings"
 	"testing"
 )
@@ -102,4 +103,18 @@ func FuzzParseTransition(f *testing.F) {
 			_, _ = EstimateEnergy(el, tr)
 		}
 	})
+}
+
+func TestTransitionJSON(t *testing.T) {
+	var v struct{ T Transition }
+	if err := json.Unmarshal([]byte(`{"T":"L2,3M4,5M4,5"}`), &v); err != nil {
+		t.Fatal(err)
+	}
+	b, _ := json.Marshal(v)
+	if string(b) != `{"T":"L23M45M45"}` {
+		t.Errorf("round trip: %s", b)
+	}
+	if err := json.Unmarshal([]byte(`{"T":"VKK"}`), &v); err == nil {
+		t.Error("VKK accepted")
+	}
 }
