@@ -58,14 +58,20 @@ func checkSG(window, order, deriv int) error {
 // least-squares polynomial of the given order over a window of points
 // -m..m, for unit step. Parameters must already be checked.
 func sgWeights(window, order, deriv, pos int) []float64 {
-	m := window / 2
 	w := make([]float64, window)
-	if m == 0 { // one point, order 0, deriv 0
-		w[0] = 1
-		return w
+	sgEval(w, sgPinv(window, order), window, order, deriv, pos)
+	return w
+}
+
+// sgPinv returns the pseudo-inverse of the window's Vandermonde matrix
+// A[j][p] = z_j^p, z_j = (j-m)/m in [-1, 1]: row p holds the weights that
+// give the fitted coefficient of z^p. For a one-point window it is nil.
+func sgPinv(window, order int) *mat.Dense {
+	m := window / 2
+	if m == 0 {
+		return nil
 	}
 	np := order + 1
-	// A[j][p] = z_j^p with z_j = j/m in [-1, 1].
 	a := mat.NewDense(window, np, nil)
 	for j := 0; j < window; j++ {
 		z := float64(j-m) / float64(m)
@@ -75,17 +81,31 @@ func sgWeights(window, order, deriv, pos int) []float64 {
 			v *= z
 		}
 	}
-	// pinv = argmin ||A X - I||: row p holds the weights giving coefficient a_p.
 	var pinv mat.Dense
 	if err := pinv.Solve(a, eye(window)); err != nil {
 		// A has full column rank for order < window (distinct abscissae), so
 		// this cannot happen short of a bug.
 		panic("lineshape: savitzky-golay: " + err.Error())
 	}
+	return &pinv
+}
+
+// sgEval sets w to the weights of d^deriv/dx^deriv of the fitted polynomial
+// at offset pos (channels) from the centre, for unit step, from the
+// pseudo-inverse pinv of sgPinv.
+func sgEval(w []float64, pinv *mat.Dense, window, order, deriv, pos int) {
+	m := window / 2
+	for j := range w {
+		w[j] = 0
+	}
+	if m == 0 { // one point, order 0, deriv 0
+		w[0] = 1
+		return
+	}
 	// d^deriv/dx^deriv of sum a_p z^p at z0, with dz/dx = 1/m.
 	z0 := float64(pos) / float64(m)
 	scale := math.Pow(float64(m), -float64(deriv))
-	for p := deriv; p < np; p++ {
+	for p := deriv; p <= order; p++ {
 		f := 1.0
 		for q := p - deriv + 1; q <= p; q++ {
 			f *= float64(q)
@@ -98,7 +118,6 @@ func sgWeights(window, order, deriv, pos int) []float64 {
 			w[j] += f * pinv.At(p, j)
 		}
 	}
-	return w
 }
 
 func eye(n int) *mat.Dense {
@@ -135,7 +154,9 @@ func SavitzkyGolayFilter(dst, y []float64, window, order, deriv int, step float6
 	}
 	n, m := len(y), window/2
 	inv := math.Pow(step, -float64(deriv))
-	centre := sgWeights(window, order, deriv, 0)
+	pinv := sgPinv(window, order)
+	centre := make([]float64, window)
+	sgEval(centre, pinv, window, order, deriv, 0)
 	for j := range centre {
 		centre[j] *= inv
 	}
@@ -151,11 +172,12 @@ func SavitzkyGolayFilter(dst, y []float64, window, order, deriv int, step float6
 		}
 		out[i] = sum
 	}
+	lw, hw := make([]float64, window), make([]float64, window)
 	for k := 0; k < m; k++ {
 		// Low end: channel k sits at offset k-m in the first window; high
 		// end: channel n-m+k sits at offset k+1 in the last window.
-		lw := sgWeights(window, order, deriv, k-m)
-		hw := sgWeights(window, order, deriv, k+1)
+		sgEval(lw, pinv, window, order, deriv, k-m)
+		sgEval(hw, pinv, window, order, deriv, k+1)
 		var ls, hs float64
 		for j := 0; j < window; j++ {
 			ls += lw[j] * y[j]
