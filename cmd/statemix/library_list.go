@@ -1,0 +1,255 @@
+package main
+
+import (
+	"bytes"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"sort"
+	"strings"
+
+	"github.com/spf13/cobra"
+
+	"statemix/library"
+)
+
+// libraryListOptions holds the flag values of library list.
+type libraryListOptions struct {
+	Element string
+	State   string
+}
+
+func newLibraryListCmd(app *App) *cobra.Command {
+	o := &libraryListOptions{}
+	cmd := &cobra.Command{
+		Use:   "list [--element EL] [--state S]",
+		Short: "List the library's entries",
+		Long: `list prints one line per entry: id, name, element, transition, state,
+compound, kind and energy range, references first. --element (exact
+symbol) and --state narrow the list. Entry files that cannot be read are
+named in warnings; the rest are listed.`,
+		Example: `  statemix library list
+  statemix library list --element Ti --state nitride
+  statemix library list --json`,
+		Args: cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, args []string) error {
+			if o.State != "" {
+				s, err := library.ParseState(o.State)
+				if err != nil {
+					return usageErrorf("library list: --state: %v", err)
+				}
+				o.State = s
+			}
+			return runLibraryList(app, o)
+		},
+	}
+	f := cmd.Flags()
+	f.StringVar(&o.Element, "element", "", "only entries of element `SYMBOL`")
+	f.StringVar(&o.State, "state", "", "only entries in chemical `STATE`")
+	_ = cmd.RegisterFlagCompletionFunc("state", completeStates)
+	_ = cmd.RegisterFlagCompletionFunc("element", completeElements(app))
+	return cmd
+}
+
+// listJSON is the statemix.list/v1 document.
+type listJSON struct {
+	Schema   string          `json:"schema"`
+	Entries  []listEntryJSON `json:"entries"`
+	Revision int             `json:"revision"`
+	Problems []string        `json:"problems"` // entry files that could not be read
+}
+
+type listEntryJSON struct {
+	Ref        string     `json:"ref"`
+	Name       string     `json:"name"`
+	Element    string     `json:"element"`
+	Transition string     `json:"transition"`
+	State      string     `json:"state"`
+	Compound   string     `json:"compound"`
+	Kind       string     `json:"kind"`
+	EnergyEV   [2]float64 `json:"energy_ev"`
+}
+
+func runLibraryList(app *App, o *libraryListOptions) error {
+	st, err := app.openLibrary(false)
+	if err != nil {
+		return err
+	}
+	all, errs := st.Entries()
+	f := library.Filter{Element: o.Element, State: o.State}
+	var es []*library.Entry
+	for _, e := range all {
+		if f.Match(e) {
+			es = append(es, e)
+		}
+	}
+	problems := []string{}
+	for _, err := range errs {
+		problems = append(problems, err.Error())
+		app.Warn(fmt.Sprintf("%v (run statemix library verify)", err))
+	}
+	if app.JSON {
+		doc := listJSON{Schema: "statemix.list/v1", Entries: []listEntryJSON{}, Revision: st.Revision(), Problems: problems}
+		for _, e := range es {
+			lo, hi := e.EnergyRange()
+			doc.Entries = append(doc.Entries, listEntryJSON{Ref: e.ID, Name: e.Name, Element: e.Element,
+				Transition: e.Transition, State: e.State, Compound: e.Compound, Kind: string(e.Kind), EnergyEV: [2]float64{lo, hi}})
+		}
+		return writeJSON(app.Out, doc)
+	}
+	if len(es) == 0 {
+		app.Infof("no entries (library revision %d)\n", st.Revision())
+		return nil
+	}
+	tw := newTable(app.Out)
+	fmt.Fprintln(tw, "REF\tNAME\tELEMENT\tTRANSITION\tSTATE\tCOMPOUND\tKIND\tENERGY (eV)")
+	for _, e := range es {
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\n", e.ID, e.Name, orDash(e.Element), orDash(e.Transition),
+			orDash(e.State), orDash(e.Compound), e.Kind, energyRange(e))
+	}
+	return tw.Flush()
+}
+
+// libraryShowOptions holds the flag values of library show.
+type libraryShowOptions struct {
+	Ref  string
+	Plot string
+}
+
+func newLibraryShowCmd(app *App) *cobra.Command {
+	o := &libraryShowOptions{}
+	cmd := &cobra.Command{
+		Use:   "show REF [--plot FILE]",
+		Short: "Show one entry: labels, provenance, acquisition and spectrum",
+		Long: `show prints everything the library holds about one entry. REF is an id, a
+unique id prefix of at least 4 characters, or a name. With --json it
+prints the entry as stored, spectrum included (schema statemix.entry/v1).`,
+		Example: `  statemix library show "Ti nitride L3M23M23"
+  statemix library show 3f9a --json > tin.json`,
+		Args:              cobra.ExactArgs(1),
+		ValidArgsFunction: completeRefs(app),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			o.Ref = args[0]
+			return runLibraryShow(app, o)
+		},
+	}
+	cmd.Flags().StringVar(&o.Plot, "plot", "", "draw the spectrum into `FILE` (.svg or .png)")
+	_ = cmd.MarkFlagFilename("plot", "svg", "png")
+	return cmd
+}
+
+// entryJSON is the statemix.entry/v1 document.
+type entryJSON struct {
+	Schema string          `json:"schema"`
+	Entry  json.RawMessage `json:"entry"`
+}
+
+func runLibraryShow(app *App, o *libraryShowOptions) error {
+	if o.Plot != "" {
+		return errors.New("library show: --plot: figures are not yet available in this build")
+	}
+	st, err := app.openLibrary(false)
+	if err != nil {
+		return err
+	}
+	e, err := st.Resolve(o.Ref)
+	if err != nil {
+		return fmt.Errorf("library show: %w", err)
+	}
+	if app.JSON {
+		b, err := json.Marshal(e)
+		if err != nil {
+			return err
+		}
+		return writeJSON(app.Out, entryJSON{Schema: "statemix.entry/v1", Entry: b})
+	}
+	var buf bytes.Buffer
+	tw := newTable(&buf)
+	row := func(k, v string) {
+		if v != "" {
+			fmt.Fprintf(tw, "%s:\t%s\n", k, v)
+		}
+	}
+	num := func(k string, v float64, unit string) {
+		if v != 0 {
+			row(k, strings.TrimSpace(fmt.Sprintf("%g %s", v, unit)))
+		}
+	}
+	row("id", e.ID)
+	row("name", e.Name)
+	row("kind", string(e.Kind))
+	row("element", e.Element)
+	row("transition", e.Transition)
+	row("state", e.State)
+	row("compound", e.Compound)
+	for _, k := range sortedKeys(e.Tags) {
+		row("tag "+k, e.Tags[k])
+	}
+	row("note", e.Note)
+	num("density", e.Density, "g/cm3")
+	num("valence", e.Valence, "")
+	num("band gap", e.BandGap, "eV")
+	p := e.Provenance
+	row("source", p.SourceFile)
+	if p.SourceFile != "" {
+		row("block", fmt.Sprint(p.Block+1))
+	}
+	row("block id", p.BlockID)
+	row("source sha256", p.SourceSHA256)
+	if !p.ImportedAt.IsZero() {
+		row("added", p.ImportedAt.Format("2006-01-02 15:04:05 MST"))
+	}
+	if !e.ModifiedAt.IsZero() {
+		row("edited", e.ModifiedAt.Format("2006-01-02 15:04:05 MST"))
+	}
+	row("added by", p.ToolVersion)
+	a := e.Acquisition
+	row("technique", a.Technique)
+	num("beam energy", a.BeamEnergyKeV, "keV")
+	num("beam current", a.BeamCurrentNA, "nA")
+	num("modulation", a.ModulationEV, "eV")
+	num("dwell", a.DwellS, "s")
+	if a.Scans != 0 {
+		row("scans", fmt.Sprint(a.Scans))
+	}
+	row("analyser mode", a.AnalyserMode)
+	row("energy reference", a.EnergyReference)
+	num("take-off angle", a.TakeOffDeg, "deg")
+	if s := e.Spectrum; s != nil {
+		step := "explicit axis"
+		if s.Axis.Uniform() {
+			step = fmt.Sprintf("step %g eV", s.Axis.Step)
+		}
+		row("spectrum", fmt.Sprintf("%s, %d channels, %s eV, %s", s.Mode, s.Len(), energyRange(e), step))
+		if s.Len() >= 3 {
+			ft := s.Features(0)
+			row("main feature", fmt.Sprintf("%.1f eV (peak-to-peak %.4g)", ft.PeakEnergy, ft.PeakToPeak))
+		}
+	}
+	if len(e.Fit) > 0 {
+		row("fit", fmt.Sprintf("%d bytes of fit result (see --json)", len(e.Fit)))
+	}
+	row("revision", fmt.Sprint(e.Revision))
+	if err := tw.Flush(); err != nil {
+		return err
+	}
+	_, err = app.Out.Write(buf.Bytes())
+	return err
+}
+
+func sortedKeys(m map[string]string) []string {
+	ks := make([]string, 0, len(m))
+	for k := range m {
+		ks = append(ks, k)
+	}
+	sort.Strings(ks)
+	return ks
+}
+
+// orDash returns s, or "-" for an empty field in a table.
+func orDash(s string) string {
+	if strings.TrimSpace(s) == "" {
+		return "-"
+	}
+	return s
+}
