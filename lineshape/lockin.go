@@ -48,7 +48,8 @@ const phasesPerStep = 8
 //	0.5 eV    2.3e-3       2.4e-4     3.5e-5
 //	1 eV      3.2e-2       2.2e-2     7.5e-4
 //
-// (with the Fritsch-Butland curve the errors were 5 to 300 times larger).
+// (with the Fritsch-Butland curve the errors were 3 times larger at 1 eV
+// steps and up to 10^4 times larger at 0.05 eV).
 // Spectra of fewer than 4 channels use the Curve. Within k/2 of either end
 // the modulation reaches beyond the data, and the end values are used there
 // (a constant extension), which biases those channels: callers trim k/2.
