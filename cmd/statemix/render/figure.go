@@ -1,0 +1,269 @@
+package render
+
+import (
+	"bytes"
+	"fmt"
+	"image/color"
+	"io"
+	"os"
+	"path/filepath"
+	"strings"
+
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+	"gonum.org/v1/plot/vg/vgimg"
+	"gonum.org/v1/plot/vg/vgsvg"
+
+	"statemix/lineshape/fit"
+)
+
+// Panel is one plot of a stacked Figure with its share of the height.
+type Panel struct {
+	Plot   *plot.Plot
+	Weight float64 // relative height; 0 counts as 1
+}
+
+// Figure is a set of panels stacked top to bottom whose data areas are
+// aligned horizontally, so that they can share an x axis.
+type Figure struct {
+	Width, Height vg.Length // default 16 cm x 12 cm
+	Panels        []Panel
+}
+
+// Draw draws the figure on c.
+func (f *Figure) Draw(c draw.Canvas) {
+	total := 0.0
+	for _, p := range f.Panels {
+		total += weight(p)
+	}
+	if total == 0 {
+		return
+	}
+	h := c.Max.Y - c.Min.Y
+	top := c.Max.Y
+	cans := make([]draw.Canvas, len(f.Panels))
+	for i, p := range f.Panels {
+		ph := vg.Length(weight(p)/total) * h
+		cans[i] = draw.Crop(c, 0, 0, top-ph-c.Min.Y, top-c.Max.Y)
+		top -= ph
+	}
+	// Align the data areas: the largest left and right paddings win.
+	var left, right vg.Length
+	for i, p := range f.Panels {
+		d := p.Plot.DataCanvas(cans[i])
+		left = max(left, d.Min.X-cans[i].Min.X)
+		right = max(right, cans[i].Max.X-d.Max.X)
+	}
+	for i, p := range f.Panels {
+		d := p.Plot.DataCanvas(cans[i])
+		l := left - (d.Min.X - cans[i].Min.X)
+		r := right - (cans[i].Max.X - d.Max.X)
+		p.Plot.Draw(draw.Crop(cans[i], l, -r, 0, 0))
+	}
+}
+
+func weight(p Panel) float64 {
+	if p.Weight <= 0 {
+		return 1
+	}
+	return p.Weight
+}
+
+func (f *Figure) size() (vg.Length, vg.Length) {
+	w, h := f.Width, f.Height
+	if w == 0 {
+		w = 16 * vg.Centimeter
+	}
+	if h == 0 {
+		h = 12 * vg.Centimeter
+	}
+	return w, h
+}
+
+// WriteSVG writes the figure as SVG.
+func (f *Figure) WriteSVG(w io.Writer) error {
+	wd, ht := f.size()
+	c := vgsvg.New(wd, ht)
+	f.Draw(draw.New(c))
+	_, err := c.WriteTo(w)
+	return err
+}
+
+// WritePNG writes the figure as PNG at 150 dots per inch.
+func (f *Figure) WritePNG(w io.Writer) error {
+	wd, ht := f.size()
+	c := vgimg.NewWith(vgimg.UseWH(wd, ht), vgimg.UseDPI(150), vgimg.UseBackgroundColor(color.White))
+	f.Draw(draw.New(c))
+	_, err := vgimg.PngCanvas{Canvas: c}.WriteTo(w)
+	return err
+}
+
+// WriteFile writes the figure to path as SVG or PNG by its extension
+// (.svg, .png); other extensions are an error.
+func (f *Figure) WriteFile(path string) error {
+	var buf bytes.Buffer
+	var err error
+	switch strings.ToLower(filepath.Ext(path)) {
+	case ".svg":
+		err = f.WriteSVG(&buf)
+	case ".png":
+		err = f.WritePNG(&buf)
+	default:
+		return fmt.Errorf("figure %s: unknown extension (want .svg or .png)", path)
+	}
+	if err != nil {
+		return fmt.Errorf("figure %s: %w", path, err)
+	}
+	return os.WriteFile(path, buf.Bytes(), 0o644)
+}
+
+// InlineSVG returns the figure as an <svg> element for embedding in HTML
+// (no XML prolog), scalable by CSS.
+func (f *Figure) InlineSVG() (string, error) {
+	var buf bytes.Buffer
+	if err := f.WriteSVG(&buf); err != nil {
+		return "", err
+	}
+	s := buf.String()
+	if i := strings.Index(s, "<svg"); i >= 0 {
+		s = s[i:]
+	}
+	return s, nil
+}
+
+// Palette is the colour sequence for components: distinct hues of similar
+// weight, readable on white and in grey print.
+var Palette = []color.Color{
+	color.RGBA{R: 0x1b, G: 0x7f, B: 0x79, A: 0xff}, // teal
+	color.RGBA{R: 0xd9, G: 0x6c, B: 0x06, A: 0xff}, // orange
+	color.RGBA{R: 0x6a, G: 0x3d, B: 0x9a, A: 0xff}, // violet
+	color.RGBA{R: 0xb8, G: 0x2e, B: 0x4b, A: 0xff}, // raspberry
+	color.RGBA{R: 0x4d, G: 0x8b, B: 0x22, A: 0xff}, // green
+	color.RGBA{R: 0x8c, G: 0x6d, B: 0x31, A: 0xff}, // ochre
+	color.RGBA{R: 0x2b, G: 0x5d, B: 0xa8, A: 0xff}, // blue
+}
+
+var (
+	inkData  = color.RGBA{R: 0x30, G: 0x30, B: 0x30, A: 0xff}
+	inkModel = color.RGBA{R: 0x0b, G: 0x2e, B: 0x59, A: 0xff}
+	inkBack  = color.RGBA{R: 0x80, G: 0x80, B: 0x80, A: 0xff}
+	inkGrid  = color.RGBA{R: 0xe4, G: 0xe4, B: 0xe4, A: 0xff}
+)
+
+// NewPlot returns a plot in the house style: light grid, no top/right
+// frame clutter, small type.
+func NewPlot(xLabel, yLabel string) *plot.Plot {
+	p := plot.New()
+	p.X.Label.Text = xLabel
+	p.Y.Label.Text = yLabel
+	for _, ax := range []*plot.Axis{&p.X, &p.Y} {
+		ax.Label.TextStyle.Font.Size = 9
+		ax.Tick.Label.Font.Size = 8
+		ax.Padding = 2
+	}
+	p.Legend.TextStyle.Font.Size = 8
+	p.Legend.Top = true
+	p.Legend.YOffs = -2
+	p.Title.TextStyle.Font.Size = 10
+	g := plotter.NewGrid()
+	g.Vertical.Color, g.Horizontal.Color = inkGrid, inkGrid
+	g.Vertical.Width, g.Horizontal.Width = 0.5, 0.5
+	p.Add(g)
+	return p
+}
+
+// Line returns a line over x and y in colour c, width w points, dashed if
+// dash is not nil. It panics if the lengths differ.
+func Line(x, y []float64, c color.Color, w vg.Length, dash []vg.Length) *plotter.Line {
+	if len(x) != len(y) {
+		panic("render: Line with mismatched lengths")
+	}
+	xy := make(plotter.XYs, len(x))
+	for i := range x {
+		xy[i] = plotter.XY{X: x[i], Y: y[i]}
+	}
+	l, err := plotter.NewLine(xy)
+	if err != nil {
+		panic("render: " + err.Error())
+	}
+	l.Color, l.Width, l.Dashes = c, w, dash
+	return l
+}
+
+// ComponentLabel returns the legend label of a fitted component.
+func ComponentLabel(c fit.Component) string {
+	switch {
+	case c.State != "" && c.Name != "" && c.Name != c.State:
+		return c.State + " (" + c.Name + ")"
+	case c.State != "":
+		return c.State
+	case c.Name != "":
+		return c.Name
+	}
+	return c.Ref
+}
+
+// FitFigure draws a fit: the data, the model, each component as fitted and
+// the background in the upper panel, the residual below with the +/- 2
+// noise SD band. title may be empty.
+func FitFigure(res *fit.Result, title string) *Figure {
+	cv := res.Curves
+	ylab := "dN/dE (arb. units)"
+	if res.Mode.String() == "direct" {
+		ylab = "N(E) (arb. units)"
+	}
+	top := NewPlot("", ylab)
+	top.Title.Text = title
+	data, err := plotter.NewScatter(xys(cv.Energy, cv.Data))
+	if err != nil {
+		panic("render: " + err.Error())
+	}
+	data.GlyphStyle.Color = inkData
+	data.GlyphStyle.Radius = 1.1
+	data.GlyphStyle.Shape = draw.CircleGlyph{}
+	top.Add(data)
+	top.Legend.Add("data", data)
+	if len(res.Background) > 0 {
+		bg := Line(cv.Energy, cv.Background, inkBack, 0.8, []vg.Length{4, 2})
+		top.Add(bg)
+		top.Legend.Add("background", bg)
+	}
+	for i, comp := range cv.Components {
+		if res.Components[i].AtBound {
+			continue
+		}
+		y := make([]float64, len(comp))
+		for j := range comp {
+			y[j] = comp[j] + cv.Background[j]
+		}
+		l := Line(cv.Energy, y, Palette[i%len(Palette)], 1, nil)
+		top.Add(l)
+		top.Legend.Add(fmt.Sprintf("%s %.1f %%", ComponentLabel(res.Components[i]), 100*res.Components[i].Fraction), l)
+	}
+	model := Line(cv.Energy, cv.Total, inkModel, 1.6, nil)
+	top.Add(model)
+	top.Legend.Add("model", model)
+
+	bot := NewPlot("kinetic energy (eV)", "residual")
+	zero := Line([]float64{cv.Energy[0], cv.Energy[len(cv.Energy)-1]}, []float64{0, 0}, inkBack, 0.6, nil)
+	bot.Add(zero)
+	if s := res.Quality.NoiseSD; s > 0 {
+		e := []float64{cv.Energy[0], cv.Energy[len(cv.Energy)-1]}
+		bot.Add(Line(e, []float64{2 * s, 2 * s}, inkBack, 0.5, []vg.Length{1, 2}))
+		bot.Add(Line(e, []float64{-2 * s, -2 * s}, inkBack, 0.5, []vg.Length{1, 2}))
+	}
+	bot.Add(Line(cv.Energy, cv.Residual, inkData, 0.8, nil))
+	top.X.Min, top.X.Max = cv.Energy[0], cv.Energy[len(cv.Energy)-1]
+	bot.X.Min, bot.X.Max = top.X.Min, top.X.Max
+	return &Figure{Panels: []Panel{{Plot: top, Weight: 3}, {Plot: bot, Weight: 1.2}}}
+}
+
+func xys(x, y []float64) plotter.XYs {
+	xy := make(plotter.XYs, len(x))
+	for i := range x {
+		xy[i] = plotter.XY{X: x[i], Y: y[i]}
+	}
+	return xy
+}

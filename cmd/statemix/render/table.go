@@ -1,0 +1,136 @@
+package render
+
+import (
+	"fmt"
+	"io"
+	"math"
+	"strings"
+	"unicode/utf8"
+
+	"statemix/lineshape/fit"
+)
+
+// Table is a header and rows of text cells.
+type Table struct {
+	Header []string
+	Rows   [][]string
+	// Right marks the columns that are right-aligned (numbers); missing
+	// entries mean left.
+	Right []bool
+}
+
+// WriteText writes t aligned for a terminal: columns two spaces apart, the
+// header underlined.
+func (t *Table) WriteText(w io.Writer) error {
+	ncol := len(t.Header)
+	for _, r := range t.Rows {
+		ncol = max(ncol, len(r))
+	}
+	width := make([]int, ncol)
+	measure := func(r []string) {
+		for i, c := range r {
+			width[i] = max(width[i], utf8.RuneCountInString(c))
+		}
+	}
+	measure(t.Header)
+	for _, r := range t.Rows {
+		measure(r)
+	}
+	var sb strings.Builder
+	line := func(r []string) {
+		var parts []string
+		for i := 0; i < ncol; i++ {
+			c := ""
+			if i < len(r) {
+				c = r[i]
+			}
+			pad := strings.Repeat(" ", width[i]-utf8.RuneCountInString(c))
+			if i < len(t.Right) && t.Right[i] {
+				parts = append(parts, pad+c)
+			} else {
+				parts = append(parts, c+pad)
+			}
+		}
+		sb.WriteString(strings.TrimRight(strings.Join(parts, "  "), " "))
+		sb.WriteByte('\n')
+	}
+	if len(t.Header) > 0 {
+		line(t.Header)
+		u := make([]string, ncol)
+		for i := range u {
+			u[i] = strings.Repeat("-", width[i])
+		}
+		line(u)
+	}
+	for _, r := range t.Rows {
+		line(r)
+	}
+	_, err := io.WriteString(w, sb.String())
+	return err
+}
+
+// FitTable returns the table of a fit's components: state, reference,
+// fraction +/- SD, 95 % interval and shift.
+func FitTable(res *fit.Result) *Table {
+	t := &Table{Header: []string{"state", "reference", "fraction", "95 % interval", "shift (eV)"},
+		Right: []bool{false, false, true, true, true}}
+	for _, c := range res.Components {
+		ref := c.Name
+		if c.Ref != "" && c.Ref != c.Name {
+			if ref != "" {
+				ref += " "
+			}
+			ref += "[" + c.Ref + "]"
+		}
+		frac := fmt.Sprintf("%.3f ± %.3f", c.Fraction, c.FractionSD)
+		ci := fmt.Sprintf("%.3f – %.3f", c.FractionCI95[0], c.FractionCI95[1])
+		if c.AtBound {
+			frac = "0 (at bound)"
+			ci = fmt.Sprintf("< %.3f", c.FractionCI95[1])
+		}
+		shift := fmt.Sprintf("%+.2f", c.Shift)
+		if c.ShiftSD > 0 {
+			shift += fmt.Sprintf(" ± %.2f", c.ShiftSD)
+		}
+		if c.ShiftAtBound {
+			shift += " (bound)"
+		}
+		state := c.State
+		if state == "" {
+			state = "-"
+		}
+		t.Rows = append(t.Rows, []string{state, ref, frac, ci, shift})
+	}
+	return t
+}
+
+// QualityText returns the quality of a fit as one line.
+func QualityText(q fit.Quality) string {
+	return fmt.Sprintf("points %d, dof %d, reduced chi-square %s, R-factor %s, residual RMS %s, noise SD %s",
+		q.Points, q.DOF, num(q.Chi2Reduced), num(q.RFactor), num(q.ResidualRMS), num(q.NoiseSD))
+}
+
+// num formats v with 3 significant digits.
+func num(v float64) string {
+	if v == 0 || math.IsNaN(v) {
+		return fmt.Sprint(v)
+	}
+	return fmt.Sprintf("%.3g", v)
+}
+
+// WriteFitText writes a fit for a terminal: the component table, the
+// quality line and the warnings.
+func WriteFitText(w io.Writer, res *fit.Result) error {
+	if err := FitTable(res).WriteText(w); err != nil {
+		return err
+	}
+	fmt.Fprintf(w, "\nwindow %.5g-%.5g eV, %s mode", res.Window[0], res.Window[1], res.Mode)
+	if res.Modulation > 0 {
+		fmt.Fprintf(w, ", modulation %.3g eV", res.Modulation)
+	}
+	fmt.Fprintf(w, ", uncertainty by %s\n%s\n", res.Uncertainty, QualityText(res.Quality))
+	for _, s := range res.Warnings {
+		fmt.Fprintf(w, "warning: %s\n", s)
+	}
+	return nil
+}
