@@ -83,6 +83,7 @@ func WriteFile(path string, f *File) (err error) {
 
 // sink is where a printer writes: a bufio.Writer or a strings.Builder.
 type sink interface {
+	Write([]byte) (int, error)
 	WriteString(string) (int, error)
 }
 
@@ -91,6 +92,7 @@ type printer struct {
 	out   sink
 	block int // 0-based block, -1 in the header
 	err   error
+	buf   []byte // scratch for number formatting
 }
 
 func (w *printer) fail(format string, args ...any) {
@@ -125,10 +127,26 @@ func (w *printer) real(what string, p *float64) {
 		w.fail("%s: %v is not a finite number", what, *p)
 		return
 	}
-	w.line(formatReal(*p))
+	if w.err != nil {
+		return
+	}
+	if *p == NotGiven {
+		w.line("1E37")
+		return
+	}
+	w.buf = strconv.AppendFloat(w.buf[:0], *p, 'G', -1, 64)
+	w.buf = append(w.buf, '\r', '\n')
+	w.out.Write(w.buf)
 }
 
-func (w *printer) integer(what string, p *int) { w.line(strconv.Itoa(*p)) }
+func (w *printer) integer(what string, p *int) {
+	if w.err != nil {
+		return
+	}
+	w.buf = strconv.AppendInt(w.buf[:0], int64(*p), 10)
+	w.buf = append(w.buf, '\r', '\n')
+	w.out.Write(w.buf)
+}
 
 func (w *printer) count(what string, p *int, per int) {
 	if *p < 0 {
