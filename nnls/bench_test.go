@@ -3,6 +3,7 @@ package nnls
 import (
 	"fmt"
 	"math"
+	"math/rand/v2"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
@@ -58,4 +59,69 @@ func BenchmarkSolver(b *testing.B) {
 			})
 		}
 	}
+}
+
+// BenchmarkBatch times one right-hand side of a map fit: m channels, 4
+// constrained references and 2 free background columns (mapMatrix), over
+// 256 distinct noisy pixel spectra.
+func BenchmarkBatch(b *testing.B) {
+	for _, m := range []int{300} {
+		for _, nc := range []int{4} {
+			const nf = 2
+			b.Run(fmt.Sprintf("m=%d/n=%d+%d", m, nc, nf), func(b *testing.B) {
+				rng := rand.New(rand.NewPCG(1, 2))
+				a, free := mapMatrix(m, nc, nf, 0)
+				bt, err := NewBatch(a, free, Settings{})
+				if err != nil {
+					b.Fatal(err)
+				}
+				bs := make([][]float64, 256)
+				for i := range bs {
+					bs[i] = mapRHS(rng, a, nf, 0.02)
+				}
+				var r Result
+				b.ReportAllocs()
+				i := 0
+				for b.Loop() {
+					bt.Solve(&r, bs[i&255])
+					i++
+				}
+			})
+		}
+	}
+}
+
+// BenchmarkBankScan times the shift scan of one pixel: A_k^T b by Project
+// and SolveNormal for each of 41 shifts.
+func BenchmarkBankScan(b *testing.B) {
+	const m, nc, nf, shifts = 300, 4, 2, 41
+	b.Run(fmt.Sprintf("m=%d/n=%d+%d/shifts=%d", m, nc, nf, shifts), func(b *testing.B) {
+		rng := rand.New(rand.NewPCG(3, 4))
+		var as []*mat.Dense
+		var free []bool
+		for k := 0; k < shifts; k++ {
+			a, f := mapMatrix(m, nc, nf, -2+0.1*float64(k))
+			as, free = append(as, a), f
+		}
+		bk, err := NewBank(as, free, Settings{})
+		if err != nil {
+			b.Fatal(err)
+		}
+		bs := make([][]float64, 64)
+		for i := range bs {
+			bs[i] = mapRHS(rng, as[rng.IntN(shifts)], nf, 0.02)
+		}
+		atb := make([]float64, nc+nf)
+		var r Result
+		b.ReportAllocs()
+		i := 0
+		for b.Loop() {
+			rhs := bs[i&63]
+			i++
+			for k := 0; k < shifts; k++ {
+				btb := bk.Project(atb, k, rhs)
+				bk.SolveNormal(&r, k, atb, btb)
+			}
+		}
+	})
 }

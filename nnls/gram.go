@@ -4,7 +4,6 @@ import (
 	"math"
 	"math/bits"
 
-	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 )
 
@@ -59,7 +58,7 @@ func newSystem(a mat.Matrix, free []bool, st Settings) (*system, error) {
 	sys.g = make([]float64, n*n)
 	for i := 0; i < n; i++ {
 		for j := 0; j <= i; j++ {
-			v := floats.Dot(sv.t[i*n:i*n+i+1], sv.t[j*n:j*n+i+1])
+			v := dot(sv.t[i*n:i*n+i+1], sv.t[j*n:j*n+i+1])
 			sys.g[i*n+j], sys.g[j*n+i] = v, v
 		}
 	}
@@ -501,9 +500,9 @@ func (sys *system) project(dst, b []float64) float64 {
 	}
 	m := sys.m
 	for j := range dst {
-		dst[j] = floats.Dot(sys.at[j*m:(j+1)*m], b)
+		dst[j] = dot(sys.at[j*m:(j+1)*m], b)
 	}
-	return floats.Dot(b, b)
+	return dot(b, b)
 }
 
 // atb returns the workspace's buffer for A^T b.

@@ -4,7 +4,6 @@ import (
 	"math"
 	"strconv"
 
-	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 )
 
@@ -18,7 +17,7 @@ func (s *Solver) tryAdd(j, p int) bool {
 	n := s.n
 	t, z := s.t, s.z
 	col := t[j*n+p : (j+1)*n]
-	nrm := math.Sqrt(floats.Dot(col, col))
+	nrm := math.Sqrt(dotSmall(col, col))
 	if nrm == 0 {
 		return false
 	}
@@ -26,7 +25,7 @@ func (s *Solver) tryAdd(j, p int) bool {
 	u0 := col[0] - alpha
 	beta := -alpha * u0
 	if !s.fr[j] {
-		sc := (u0*z[p] + floats.Dot(col[1:], z[p+1:])) / beta
+		sc := (u0*z[p] + dotSmall(col[1:], z[p+1:])) / beta
 		if (z[p]-sc*u0)/alpha <= 0 {
 			return false
 		}
@@ -37,10 +36,10 @@ func (s *Solver) tryAdd(j, p int) bool {
 			continue
 		}
 		tk := t[k*n+p : (k+1)*n]
-		floats.AddScaled(tk, -floats.Dot(col, tk)/beta, col)
+		axpySmall(-dotSmall(col, tk)/beta, col, tk)
 	}
 	zp := z[p:]
-	floats.AddScaled(zp, -floats.Dot(col, zp)/beta, col)
+	axpySmall(-dotSmall(col, zp)/beta, col, zp)
 	col[0] = alpha
 	for i := 1; i < len(col); i++ {
 		col[i] = 0
@@ -156,7 +155,7 @@ func (s *Solver) fill(dst *Result, rho0 float64) {
 	}
 	rz := s.z[np:]
 	dst.X = s.x
-	dst.ResidualNorm = math.Sqrt(floats.Dot(rz, rz) + rho0*rho0)
+	dst.ResidualNorm = math.Sqrt(dotSmall(rz, rz) + rho0*rho0)
 	pas := s.pas[:np]
 	copy(pas, s.pos[:np])
 	sortInts(pas)
@@ -214,3 +213,22 @@ func sortInts(a []int) {
 }
 
 func itoa(i int) string { return strconv.Itoa(i) }
+
+// dotSmall is dot for the short vectors of the n x n problem, where a
+// plain loop beats the call into assembly.
+func dotSmall(x, y []float64) float64 {
+	y = y[:len(x)]
+	var v float64
+	for i, xv := range x {
+		v += xv * y[i]
+	}
+	return v
+}
+
+// axpySmall sets y += alpha x for short vectors.
+func axpySmall(alpha float64, x, y []float64) {
+	y = y[:len(x)]
+	for i, xv := range x {
+		y[i] += alpha * xv
+	}
+}

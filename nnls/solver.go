@@ -3,7 +3,6 @@ package nnls
 import (
 	"math"
 
-	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 )
 
@@ -191,14 +190,7 @@ func loadColMajor(w []float64, a mat.Matrix) {
 	switch t := a.(type) {
 	case mat.RawMatrixer:
 		raw := t.RawMatrix()
-		st := raw.Stride
-		for j := 0; j < n; j++ {
-			dst := w[j*m : (j+1)*m]
-			src := raw.Data[j : j+(m-1)*st+1]
-			for i := range dst {
-				dst[i] = src[i*st]
-			}
-		}
+		transpose(w, raw.Data, m, n, raw.Stride)
 	case mat.Untransposer:
 		if r, ok := t.Untranspose().(mat.RawMatrixer); ok {
 			raw := r.RawMatrix() // n x m: row j is column j of A
@@ -210,6 +202,36 @@ func loadColMajor(w []float64, a mat.Matrix) {
 		loadAt(w, a, m, n)
 	default:
 		loadAt(w, a, m, n)
+	}
+}
+
+// transpose copies the row-major m x n src (row stride st) into the
+// column-major w, four columns per pass.
+func transpose(w, src []float64, m, n, st int) {
+	j := 0
+	for ; j+4 <= n; j += 4 {
+		c0 := w[j*m : (j+1)*m]
+		c1 := w[(j+1)*m : (j+2)*m]
+		c2 := w[(j+2)*m : (j+3)*m]
+		c3 := w[(j+3)*m : (j+4)*m]
+		for i := range c0 {
+			r := src[i*st+j : i*st+j+4 : i*st+j+4]
+			c0[i], c1[i], c2[i], c3[i] = r[0], r[1], r[2], r[3]
+		}
+	}
+	for ; j+2 <= n; j += 2 {
+		c0 := w[j*m : (j+1)*m]
+		c1 := w[(j+1)*m : (j+2)*m]
+		for i := range c0 {
+			r := src[i*st+j : i*st+j+2 : i*st+j+2]
+			c0[i], c1[i] = r[0], r[1]
+		}
+	}
+	for ; j < n; j++ {
+		c0 := w[j*m : (j+1)*m]
+		for i := range c0 {
+			c0[i] = src[i*st+j]
+		}
 	}
 }
 
@@ -238,10 +260,10 @@ func (s *Solver) factor() float64 {
 		beta := -s.rd[k] * col[0]
 		for j := k + 1; j < n; j++ {
 			cj := w[j*m+k : (j+1)*m]
-			floats.AddScaled(cj, -floats.Dot(col, cj)/beta, col)
+			axpy(-dot(col, cj)/beta, col, cj)
 		}
 		qb := s.qb[k:]
-		floats.AddScaled(qb, -floats.Dot(col, qb)/beta, col)
+		axpy(-dot(col, qb)/beta, col, qb)
 	}
 	for j := 0; j < n; j++ {
 		var ss float64
@@ -262,14 +284,14 @@ func (s *Solver) factor() float64 {
 		return 0
 	}
 	r := s.qb[n:]
-	return math.Sqrt(floats.Dot(r, r))
+	return math.Sqrt(dot(r, r))
 }
 
 // householder replaces x by the vector u of the reflector H = I - u u^T/beta,
 // beta = -alpha*u[0], with H x = alpha e_1, and returns alpha. It returns 0
 // and leaves x alone when x is zero.
 func householder(x []float64) float64 {
-	nrm := math.Sqrt(floats.Dot(x, x))
+	nrm := math.Sqrt(dot(x, x))
 	if nrm == 0 {
 		return 0
 	}
@@ -343,7 +365,7 @@ func (s *Solver) activeSet() error {
 	if tol == 0 {
 		var mx float64
 		for j := 0; j < n; j++ {
-			mx = max(mx, math.Abs(floats.Dot(t[j*n:(j+1)*n], s.c)))
+			mx = max(mx, math.Abs(dotSmall(t[j*n:(j+1)*n], s.c)))
 		}
 		tol = 10 * eps * float64(n) * mx
 	}
@@ -373,7 +395,7 @@ func (s *Solver) activeSet() error {
 		for j := 0; j < n; j++ {
 			s.wd[j] = 0
 			if !s.inP[j] && !s.fr[j] {
-				s.wd[j] = floats.Dot(t[j*n+np:(j+1)*n], z[np:])
+				s.wd[j] = dotSmall(t[j*n+np:(j+1)*n], z[np:])
 			}
 		}
 		added := false
