@@ -20,8 +20,9 @@ const energyRefPrefix = "energy reference: "
 // cannot be turned into a spectrum.
 func (f *File) Spectra() ([]*lineshape.Spectrum, error) {
 	out := make([]*lineshape.Spectrum, len(f.Blocks))
+	base := f.pixelBase()
 	for i := range f.Blocks {
-		s, err := f.Spectrum(i, -1)
+		s, err := f.spectrum(i, -1, base)
 		if err != nil {
 			return nil, err
 		}
@@ -103,6 +104,24 @@ func (f *File) AbscissaVariable(block int) int {
 //     as "experimental_variable:LABEL" = "VALUE UNIT" and every additional
 //     numerical parameter as "parameter:LABEL" = "VALUE UNIT", where given.
 func (f *File) Spectrum(block, variable int) (*lineshape.Spectrum, error) {
+	return f.spectrum(block, variable, f.pixelBase())
+}
+
+// pixelBase is what map coordinates count from: 1 as ISO 14976 does, or 0
+// when some block has coordinate 0.
+func (f *File) pixelBase() int {
+	if !hasMapXY(f.ExperimentMode) {
+		return 1
+	}
+	for _, o := range f.Blocks {
+		if o.X == 0 || o.Y == 0 {
+			return 0
+		}
+	}
+	return 1
+}
+
+func (f *File) spectrum(block, variable, base int) (*lineshape.Spectrum, error) {
 	if block < 0 || block >= len(f.Blocks) {
 		panic(fmt.Sprintf("vamas: block %d out of range [0,%d)", block, len(f.Blocks)))
 	}
@@ -187,7 +206,7 @@ func (f *File) Spectrum(block, variable int) (*lineshape.Spectrum, error) {
 	if err != nil {
 		return nil, bad("%v", err)
 	}
-	f.fillMeta(&s.Meta, block, variable, ab, binding, hv)
+	f.fillMeta(&s.Meta, block, variable, ab, binding, hv, base)
 	return s, nil
 }
 
@@ -250,7 +269,7 @@ func isSputterTime(label string) bool {
 	return strings.Contains(l, "sputter") || strings.Contains(l, "etch")
 }
 
-func (f *File) fillMeta(m *lineshape.Meta, block, variable, ab int, binding bool, hv float64) {
+func (f *File) fillMeta(m *lineshape.Meta, block, variable, ab int, binding bool, hv float64, base int) {
 	b := f.Blocks[block]
 	m.Source = f.name
 	m.Block = block
@@ -299,13 +318,6 @@ func (f *File) fillMeta(m *lineshape.Meta, block, variable, ab int, binding bool
 		}
 	}
 	if hasMapXY(f.ExperimentMode) {
-		base := 1
-		for _, o := range f.Blocks {
-			if o.X == 0 || o.Y == 0 {
-				base = 0
-				break
-			}
-		}
 		x, y := b.X-base, b.Y-base
 		m.PixelX, m.PixelY = &x, &y
 	}

@@ -333,3 +333,51 @@ func TestRealDerivativeSpectrum(t *testing.T) {
 		t.Errorf("round trip within 1e-9 but not exact")
 	}
 }
+
+func TestPixelsCountedFromZero(t *testing.T) {
+	f := fullFile(ModeMAP, ScanRegular)
+	for i, b := range f.Blocks {
+		b.X, b.Y = i%2, i/2 // a file that counts from 0
+	}
+	specs, err := f.Spectra()
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i, s := range specs {
+		if *s.Meta.PixelX != i%2 || *s.Meta.PixelY != i/2 {
+			t.Errorf("block %d: pixel (%d,%d), want (%d,%d)", i, *s.Meta.PixelX, *s.Meta.PixelY, i%2, i/2)
+		}
+	}
+}
+
+func TestWriteFileAtomic(t *testing.T) {
+	dir := t.TempDir()
+	path := filepath.Join(dir, "out.vms")
+	f := fullFile(ModeSDP, ScanIrregular)
+	if err := WriteFile(path, f); err != nil {
+		t.Fatal(err)
+	}
+	fi, err := os.Stat(path)
+	if err != nil || fi.Mode().Perm() != 0o644 {
+		t.Fatalf("stat %v, mode %v", err, fi.Mode())
+	}
+	g, err := ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	sameFile(t, f, g)
+	before, _ := os.ReadFile(path)
+	// A failing write leaves the old file and no temporary file behind.
+	f.Blocks[1].Sample = "line\nbreak"
+	if err := WriteFile(path, f); err == nil {
+		t.Fatal("WriteFile of an unwritable File succeeded")
+	}
+	after, _ := os.ReadFile(path)
+	if !bytes.Equal(before, after) {
+		t.Errorf("failed WriteFile changed the file")
+	}
+	ents, _ := os.ReadDir(dir)
+	if len(ents) != 1 {
+		t.Errorf("%d entries in the folder after a failed write, want 1", len(ents))
+	}
+}
