@@ -88,7 +88,8 @@ type Entry struct {
 
 	Spectrum *lineshape.Spectrum `json:"spectrum"`
 	// Fit holds, for a measurement, the fit result it got (the statemix.fit/v1
-	// document); nil for references.
+	// document); nil for references. Add and the readers hold it compacted
+	// (encoding/json.Compact); files hold it indented.
 	Fit json.RawMessage `json:"fit,omitempty"`
 }
 
