@@ -392,10 +392,13 @@ func takeOff(b *Block) float64 {
 // is Meta.Technique, with "AES diff" for a derivative spectrum and "AES dir"
 // for a direct one when it is empty or an AES technique of the other mode;
 // a derivative spectrum of another technique is an error. Sputter times
-// (Meta.SputterTimeS, required in SDP, SDPSV, MAPDP and MAPSVDP) go into an
-// experimental variable "Sputter Time" in s, written 1E37 for spectra
-// without one; pixel positions (required in MAP and MAPDP) go into the x and
-// y coordinates counted from 1. Items Meta has nothing for are written as
+// (Meta.SputterTimeS) go into an experimental variable "Sputter Time" in s,
+// declared in the depth-profile modes (SDP, SDPSV, MAPDP, MAPSVDP) and
+// whenever a spectrum has a sputter time, and written 1E37 for spectra
+// without one; other experimental variables and additional numerical
+// parameters that Spectrum recorded in Meta.Extra are written back. Pixel
+// positions (required in MAP and MAPDP) go into the x and y coordinates,
+// counted from 1. Items Meta has nothing for are written as
 // 1E37 (reals), 0 (integers: date and time, sputtering ion) or blank
 // (text).
 func FromSpectra(specs []*lineshape.Spectrum, mode string) (*File, error) {
@@ -442,9 +445,6 @@ func FromSpectra(specs []*lineshape.Spectrum, mode string) (*File, error) {
 		b, err := blockFrom(f, s, i, len(specs))
 		if err != nil {
 			return nil, err
-		}
-		if depthProfile(mode) && s.Meta.SputterTimeS == nil {
-			return nil, fmt.Errorf("vamas: spectrum %d: experiment mode %s needs a sputter time", i+1, mode)
 		}
 		if hasMapXY(mode) {
 			if s.Meta.PixelX == nil || s.Meta.PixelY == nil {
