@@ -57,7 +57,10 @@ func Detect(head []byte) string {
 	if bytes.HasPrefix(head, []byte("\x93NUMPY")) {
 		return KindNPY
 	}
-	first, _, _ := bytes.Cut(head, []byte("\n"))
+	first := head
+	if i := bytes.IndexAny(head, "\r\n"); i >= 0 {
+		first = head[:i]
+	}
 	if string(bytes.TrimSpace(first)) == vamasFirstLine {
 		return KindVAMAS
 	}

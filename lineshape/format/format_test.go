@@ -22,6 +22,7 @@ func TestDetect(t *testing.T) {
 		vamasFirstLine + "\r\nNot Specified\r\n": KindVAMAS,
 		"\ufeff" + vamasFirstLine + "\n":         KindVAMAS,
 		"VAMAS something else\n":                 KindDelimited,
+		vamasFirstLine + "\rNot Specified\r":     KindVAMAS,
 		"\x93NUMPY\x01\x00":                      KindNPY,
 		"  \n{\"schema\": 1}":                    KindJSON,
 		"1,2\n3,4\n":                             KindDelimited,

@@ -131,6 +131,8 @@ func TestLayouts(t *testing.T) {
 			e: []float64{86.6, 100}, y: []float64{1, 2}, mode: lineshape.Direct, blocks: 1},
 		{name: "forced binding", text: "1400 1\n1386.6 2\n", opts: Options{Axis: AxisBinding, ExcitationEV: 1486.6},
 			e: []float64{86.6, 100}, y: []float64{1, 2}, mode: lineshape.Derivative, blocks: 1},
+		{name: "lone CR line ends", text: "energy\tcounts\r1\t2\r\r2\t3\r",
+			e: []float64{1, 2}, y: []float64{2, 3}, mode: lineshape.Direct, counts: true, blocks: 1},
 		{name: "bom", text: "\ufeff1,2\n2,3\n", e: []float64{1, 2}, y: []float64{2, 3}, mode: lineshape.Derivative, blocks: 1},
 	}
 	for _, c := range cases {

@@ -155,6 +155,7 @@ type table struct {
 func parse(r io.Reader, name string) (*table, error) {
 	sc := bufio.NewScanner(r)
 	sc.Buffer(make([]byte, 0, 64*1024), maxLine)
+	sc.Split(scanLines)
 	t := &table{name: name}
 	var (
 		lineNo      int
@@ -236,6 +237,31 @@ func parse(r io.Reader, name string) (*table, error) {
 		return nil, lineshape.Errorf(name, t.lines[0], "only one data row: need at least 2 channels")
 	}
 	return t, nil
+}
+
+// scanLines is bufio.ScanLines for lines that end in LF, CRLF or a lone CR.
+func scanLines(data []byte, atEOF bool) (advance int, token []byte, err error) {
+	for i, c := range data {
+		switch c {
+		case '\n':
+			return i + 1, data[:i], nil
+		case '\r':
+			if i+1 < len(data) {
+				if data[i+1] == '\n' {
+					return i + 2, data[:i], nil
+				}
+				return i + 1, data[:i], nil
+			}
+			if atEOF {
+				return i + 1, data[:i], nil
+			}
+			return 0, nil, nil // a LF may follow
+		}
+	}
+	if atEOF && len(data) > 0 {
+		return len(data), data, nil
+	}
+	return 0, nil, nil
 }
 
 // detectSep picks the column separator of a line: tab, semicolon, comma or
