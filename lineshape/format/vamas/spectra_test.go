@@ -3,6 +3,7 @@ package vamas
 import (
 	"bufio"
 	"bytes"
+	"errors"
 	"flag"
 	"math"
 	"os"
@@ -382,5 +383,60 @@ func TestWriteFileAtomic(t *testing.T) {
 	ents, _ := os.ReadDir(dir)
 	if len(ents) != 1 {
 		t.Errorf("%d entries in the folder after a failed write, want 1", len(ents))
+	}
+}
+
+func TestLabelsAndUnits(t *testing.T) {
+	// Label and unit spellings the bridge recognises (common practice in
+	// exported files; the standard fixes none of them beyond "eV" and "s").
+	for _, c := range []struct {
+		label, unit string
+		sputter     bool
+		seconds     float64 // factor to s; 0 when the unit is not a time
+	}{
+		{"Etch Time", "s", true, 1},
+		{"sputter time", "min", true, 60},
+		{"Sputtering time", "h", true, 3600},
+		{"Etch time", "ms", true, 1e-3},
+		{"Sputter depth", "nm", false, 0},
+		{"Sputter rate", "nm/min", false, 0},
+		{"Temperature", "K", false, 0},
+	} {
+		if got := isSputterTime(c.label); got != c.sputter {
+			t.Errorf("isSputterTime(%q) = %v", c.label, got)
+		}
+		k, ok := timeUnit(c.unit)
+		if ok != (c.seconds != 0) || k != c.seconds {
+			t.Errorf("timeUnit(%q) = %v, %v", c.unit, k, ok)
+		}
+	}
+	for _, l := range []string{"E*N(E)", "EN(E)", "E x N(E)", "E·N(E) counts"} {
+		if !isTimesEnergy(l) {
+			t.Errorf("isTimesEnergy(%q) false", l)
+		}
+	}
+	for _, l := range []string{"N(E)", "Intensity", "dN/dE"} {
+		if isTimesEnergy(l) {
+			t.Errorf("isTimesEnergy(%q) true", l)
+		}
+	}
+	// A keV abscissa is scaled to eV.
+	f := fullFile(ModeNORM, ScanRegular)
+	b := f.Blocks[0]
+	b.AbscissaUnit, b.AbscissaStart, b.AbscissaStep = "keV", 0.3, 0.0005
+	s, err := f.Spectrum(0, -1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(s.Axis.Lo()-300) > 1e-9 || math.Abs(s.Axis.Hi()-302) > 1e-9 {
+		t.Errorf("keV axis %v-%v eV, want 300-302", s.Axis.Lo(), s.Axis.Hi())
+	}
+	// A non-energy abscissa is refused with the block's line.
+	b.AbscissaLabel, b.AbscissaUnit = "Time", "s"
+	g, _ := roundTrip(t, f)
+	_, err = g.Spectrum(0, -1)
+	var ie *lineshape.InputError
+	if !errors.As(err, &ie) || ie.Line == 0 || ie.Block != 0 || !strings.Contains(err.Error(), "not an energy") {
+		t.Errorf("time abscissa: %v", err)
 	}
 }
