@@ -6,6 +6,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 
@@ -308,6 +309,68 @@ func TestConvertHelp(t *testing.T) {
 	for _, want := range []string{"Convert spectra between file formats", "Examples:", "--modulation EV", "-o, --output FILE"} {
 		if !strings.Contains(stdout, want) {
 			t.Errorf("help lacks %q", want)
+		}
+	}
+}
+
+// TestConvertDepthProfileAndMap round-trips a sputter depth profile (SDP)
+// and a depth-profiled map (MAPDP) of our own through ISO 14976 with
+// statemix convert: JSON -> ISO 14976 -> JSON, values to 1e-9 relative,
+// sputter times and pixel positions kept.
+func TestConvertDepthProfileAndMap(t *testing.T) {
+	dir := t.TempDir()
+	for _, mode := range []string{"SDP", "MAPDP"} {
+		var specs []*lineshape.Spectrum
+		for k := range 6 {
+			y := make([]float64, 121)
+			for i := range y {
+				e := 30 + 0.5*float64(i)
+				// Invented lineshapes: a derivative Gaussian that shifts and
+				// shrinks with depth.
+				c := 60 + 0.3*float64(k)
+				y[i] = -(e - c) * math.Exp(-(e-c)*(e-c)/8) / (1 + float64(k))
+			}
+			s, err := lineshape.NewUniform(30, 0.5, y, lineshape.Derivative)
+			if err != nil {
+				t.Fatal(err)
+			}
+			st := 12.5 * float64(k)
+			s.Meta.SputterTimeS = &st
+			s.Meta.ModulationEV = 2
+			if mode == "MAPDP" {
+				x, yy := k%3, k/3
+				s.Meta.PixelX, s.Meta.PixelY = &x, &yy
+			}
+			specs = append(specs, s)
+		}
+		in := filepath.Join(dir, mode+".json")
+		if err := format.WriteFile(in, specs, format.FormatJSON); err != nil {
+			t.Fatal(err)
+		}
+		vms := filepath.Join(dir, mode+".vms")
+		if code, _, stderr := runConvertCLI(t, "convert", in, "-o", vms); code != 0 {
+			t.Fatalf("%s: exit %d: %s", mode, code, stderr)
+		}
+		b, _ := os.ReadFile(vms)
+		if lines := strings.Split(string(b), "\r\n"); !slices.Contains(lines, mode) {
+			t.Errorf("%s: experiment mode line missing", mode)
+		}
+		out := filepath.Join(dir, mode+"-back.json")
+		if code, _, stderr := runConvertCLI(t, "convert", vms, "-o", out); code != 0 {
+			t.Fatalf("%s: exit %d: %s", mode, code, stderr)
+		}
+		back, err := format.ReadFile(out, format.Options{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		convSame(t, back, specs, 1e-9)
+		for k, s := range back {
+			if s.Meta.SputterTimeS == nil || !scalar.EqualWithinAbsOrRel(*s.Meta.SputterTimeS, *specs[k].Meta.SputterTimeS, 1e-9, 1e-9) {
+				t.Errorf("%s spectrum %d: sputter time %v", mode, k, s.Meta.SputterTimeS)
+			}
+			if mode == "MAPDP" && (s.Meta.PixelX == nil || *s.Meta.PixelX != k%3 || *s.Meta.PixelY != k/3) {
+				t.Errorf("%s spectrum %d: pixel lost", mode, k)
+			}
 		}
 	}
 }
