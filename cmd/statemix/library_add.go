@@ -13,8 +13,7 @@ import (
 
 	"statemix/library"
 	"statemix/lineshape"
-	"statemix/lineshape/format/delimited"
-	"statemix/lineshape/format/vamas"
+	"statemix/lineshape/format"
 )
 
 // libraryAddOptions holds the flag values of library add.
@@ -259,51 +258,17 @@ func fileSHA256(path string) (string, error) {
 	return hex.EncodeToString(h.Sum(nil)), nil
 }
 
-// readSpectraFile reads every spectrum of a file: ISO 14976 (recognised by
-// its first line or a .vms/.vamas extension) or delimited text. mode, if
-// not nil, overrides the mode the file gives. This is the one place that
-// knows the file formats.
+// readSpectraFile reads every spectrum of a file: each block of an ISO
+// 14976 file, each spectrum of a statemix spectrum JSON file, each value
+// column of a delimited text file (package format tells them apart by
+// content). mode, if not nil, overrides the mode the file gives.
 func readSpectraFile(path string, mode *lineshape.Mode) ([]*lineshape.Spectrum, error) {
-	var specs []*lineshape.Spectrum
-	if isVAMAS(path) {
-		f, err := vamas.ReadFile(path)
-		if err != nil {
-			return nil, err
-		}
-		if specs, err = f.Spectra(); err != nil {
-			return nil, err
-		}
-		if mode != nil {
-			for _, s := range specs {
-				s.Mode = *mode
-			}
-		}
-	} else {
-		s, err := delimited.ReadFile(path, delimited.Options{Mode: mode})
-		if err != nil {
-			return nil, err
-		}
-		specs = []*lineshape.Spectrum{s}
+	specs, err := format.ReadFile(path, format.Options{Mode: mode})
+	if err != nil {
+		return nil, err
 	}
 	if len(specs) == 0 {
 		return nil, &lineshape.InputError{File: path, Block: -1, Err: fmt.Errorf("no spectra in the file")}
 	}
 	return specs, nil
-}
-
-// isVAMAS reports whether path is an ISO 14976 file: its extension, or its
-// first line, the format identifier the standard prescribes.
-func isVAMAS(path string) bool {
-	switch strings.ToLower(filepath.Ext(path)) {
-	case ".vms", ".vamas":
-		return true
-	}
-	f, err := os.Open(path)
-	if err != nil {
-		return false
-	}
-	defer f.Close()
-	buf := make([]byte, 64)
-	n, _ := io.ReadFull(f, buf)
-	return strings.HasPrefix(string(buf[:n]), "VAMAS Surface Chemical Analysis Standard")
 }

@@ -38,6 +38,7 @@ func runLibraryInit(app *App) error {
 	if err != nil {
 		return fmt.Errorf("library init: %w", err)
 	}
+	app.afterLibraryWrite(st) // an empty index, so verify finds it
 	if app.JSON {
 		return writeJSON(app.Out, map[string]any{"schema": "statemix.library-init/v1", "library": st.Dir(), "revision": st.Revision()})
 	}

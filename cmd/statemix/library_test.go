@@ -431,3 +431,13 @@ func TestLibraryHelp(t *testing.T) {
 		}
 	}
 }
+
+// TestLibraryInitThenVerify checks that a fresh library verifies clean
+// (init makes its empty index).
+func TestLibraryInitThenVerify(t *testing.T) {
+	dir := filepath.Join(t.TempDir(), "lib")
+	mustCLI(t, dir, "library", "init")
+	if code, out, stderr := libCLI(t, dir, "library", "verify"); code != 0 {
+		t.Errorf("verify of a fresh library: exit %d\n%s%s", code, out, stderr)
+	}
+}
