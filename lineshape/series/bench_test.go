@@ -24,3 +24,18 @@ func BenchmarkMap(b *testing.B) {
 		})
 	}
 }
+
+// BenchmarkProfile fits a 100-step profile of 300-channel spectra with two
+// references, a common shift within +/-2 eV and covariance uncertainties.
+func BenchmarkProfile(b *testing.B) {
+	steps := erfProfile(500, 50, 10, 990, 0.01, 1)
+	refs := testRefs(2)
+	b.Run(fmt.Sprintf("steps=%d/refs=2/uncertainty=covariance", len(steps)), func(b *testing.B) {
+		for b.Loop() {
+			if _, err := Profile(context.Background(), steps, refs, ProfileOptions{Fit: fit.Options{MaxShift: 2}}); err != nil {
+				b.Fatal(err)
+			}
+		}
+		b.ReportMetric(float64(len(steps))*float64(b.N)/b.Elapsed().Seconds(), "steps/s")
+	})
+}
