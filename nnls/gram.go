@@ -54,7 +54,10 @@ func newSystem(a mat.Matrix, free []bool, st Settings) (*system, error) {
 	sys := &system{m: m, n: n, maxIter: st.maxIter(n), tol: st.Tol}
 	sys.at = make([]float64, n*m)
 	loadColMajor(sys.at, a)
-	sys.d = append([]float64(nil), sv.d...)
+	sys.d = make([]float64, n)
+	for j := range sys.d {
+		sys.d[j] = sv.d[j] / sv.cs[j]
+	}
 	sys.g = make([]float64, n*n)
 	for i := 0; i < n; i++ {
 		for j := 0; j <= i; j++ {

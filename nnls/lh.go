@@ -150,12 +150,12 @@ func (s *Solver) fill(dst *Result, rho0 float64) {
 	}
 	for q := 0; q < np; q++ {
 		col := s.pos[q]
-		s.x[col] = s.y[col] / s.d[col]
+		s.x[col] = s.y[col] / s.d[col] * s.cs[col] / s.bscale
 		s.posOf[col] = q
 	}
 	rz := s.z[np:]
 	dst.X = s.x
-	dst.ResidualNorm = math.Sqrt(dotSmall(rz, rz) + rho0*rho0)
+	dst.ResidualNorm = math.Sqrt(dotSmall(rz, rz)+rho0*rho0) / s.bscale
 	pas := s.pas[:np]
 	copy(pas, s.pos[:np])
 	sortInts(pas)
@@ -195,7 +195,7 @@ func (s *Solver) invNormal(pas []int) *mat.SymDense {
 			for l := max(pa, pb); l < k; l++ {
 				v += ui[l*k+pa] * ui[l*k+pb]
 			}
-			raw.Data[a*raw.Stride+b] = v / (s.d[pas[a]] * s.d[pas[b]])
+			raw.Data[a*raw.Stride+b] = v / (s.d[pas[a]] * s.d[pas[b]]) * (s.cs[pas[a]] * s.cs[pas[b]])
 		}
 	}
 	return &s.inv

@@ -73,27 +73,29 @@ type Result struct {
 type Solver struct {
 	Settings Settings
 
-	m, n  int
-	w     []float64 // m*n: column-major copy of A, overwritten by QR
-	qb    []float64 // m: copy of b, overwritten by Q^T b
-	rd    []float64 // n: diagonal of R
-	d     []float64 // n: column norms of A
-	t     []float64 // n*n column-major: scaled R, then LH working matrix
-	c     []float64 // n: Q^T b (first n entries)
-	z     []float64 // n: LH working right-hand side
-	y     []float64 // n: scaled iterate
-	zs    []float64 // n: trial solution by position
-	wd    []float64 // n: dual by column
-	pos   []int     // n: column at each passive position
-	inP   []bool    // n: column is passive
-	fr    []bool    // n: column is free
-	tinv  []float64 // n*n: inverse of a triangular factor
-	x     []float64 // n: result X
-	pas   []int     // n: result Passive
-	posOf []int     // n: passive position of each column
-	inv   mat.SymDense
-	np    int // passive columns after the last solve
-	iter  int // outer iterations of the last solve
+	m, n   int
+	w      []float64 // m*n: column-major copy of A, overwritten by QR
+	qb     []float64 // m: copy of b, overwritten by Q^T b
+	rd     []float64 // n: diagonal of R
+	d      []float64 // n: column norms of A
+	t      []float64 // n*n column-major: scaled R, then LH working matrix
+	c      []float64 // n: Q^T b (first n entries)
+	z      []float64 // n: LH working right-hand side
+	y      []float64 // n: scaled iterate
+	zs     []float64 // n: trial solution by position
+	wd     []float64 // n: dual by column
+	pos    []int     // n: column at each passive position
+	inP    []bool    // n: column is passive
+	fr     []bool    // n: column is free
+	tinv   []float64 // n*n: inverse of a triangular factor
+	x      []float64 // n: result X
+	pas    []int     // n: result Passive
+	posOf  []int     // n: passive position of each column
+	inv    mat.SymDense
+	np     int     // passive columns after the last solve
+	bscale float64   // power of two applied to b (1 unless rescaled)
+	cs     []float64 // n: power of two applied to each column (1 unless rescaled)
+	iter   int     // outer iterations of the last solve
 }
 
 func (s *Solver) resize(m, n int) {
@@ -118,6 +120,7 @@ func (s *Solver) resize(m, n int) {
 	s.x = make([]float64, n)
 	s.pas = make([]int, n)
 	s.posOf = make([]int, n)
+	s.cs = make([]float64, n)
 	s.inv = mat.SymDense{}
 	s.inv.ReuseAsSym(n)
 }
@@ -153,8 +156,9 @@ func (s *Solver) Solve(dst *Result, a mat.Matrix, b []float64, free []bool) erro
 }
 
 // prepare factors A and checks it: on success s.t holds the column-scaled
-// R, s.c holds Q^T b, s.d the column norms, and rho0 is the norm of the
-// part of b outside the range of A.
+// R, s.c holds Q^T b, s.d / s.cs the column norms of A, and rho0 is the
+// norm of the part of b outside the range of A (all for b times
+// s.bscale).
 func (s *Solver) prepare(a mat.Matrix, b []float64, free []bool) (rho0 float64, err error) {
 	m, n := a.Dims()
 	s.resize(m, n)
@@ -163,8 +167,21 @@ func (s *Solver) prepare(a mat.Matrix, b []float64, free []bool) (rho0 float64, 
 	}
 	s.load(a, b)
 	rho0 = s.factor()
-	if err := s.checkFinite(a, b, rho0); err != nil {
-		return 0, err
+	s.bscale = 1
+	for j := range s.cs {
+		s.cs[j] = 1
+	}
+	if s.extreme(rho0) {
+		// Non-finite input, or magnitudes whose squares over- or
+		// underflow: rescale columns and b by powers of two (exactly) and
+		// factor again.
+		if err := scanNonFinite(a, b); err != nil {
+			return 0, err
+		}
+		rho0 = s.rescaled(a, b)
+		if err := s.checkFinite(rho0); err != nil {
+			return 0, err
+		}
 	}
 	for j := 0; j < n; j++ {
 		if s.d[j] == 0 {
@@ -300,25 +317,93 @@ func householder(x []float64) float64 {
 	return alpha
 }
 
-// checkFinite reports non-finite input, which shows up as a non-finite
-// factor, right-hand side or residual.
-func (s *Solver) checkFinite(a mat.Matrix, b []float64, rho0 float64) error {
-	ok := isFinite(rho0)
+// Column and right-hand-side norms outside [tiny, huge] trigger the
+// rescaled factorization, well before squares over- or underflow.
+const (
+	tiny = 0x1p-450
+	huge = 0x1p450
+)
+
+// extreme reports whether the factorization may have met non-finite
+// input or over- or underflow: a non-finite or extreme column norm, a zero
+// column (which may be an underflow), or an extreme norm of b.
+func (s *Solver) extreme(rho0 float64) bool {
+	out := func(v float64) bool { return !(v >= tiny && v <= huge) }
 	for _, v := range s.d {
-		ok = ok && isFinite(v)
+		if out(v) {
+			return true
+		}
 	}
+	bn := math.Sqrt(dotSmall(s.c, s.c) + rho0*rho0)
+	if bn == 0 { // b = 0, or an underflow
+		for _, v := range s.qb {
+			if v != 0 {
+				return true
+			}
+		}
+		return false
+	}
+	return out(bn)
+}
+
+// rescaled reloads A with each column scaled by a power of two that
+// brings its largest entry into [0.5, 1), and b likewise, factors again,
+// and returns rho0. The scales stay in cs and bscale.
+func (s *Solver) rescaled(a mat.Matrix, b []float64) float64 {
+	m, n := s.m, s.n
+	loadColMajor(s.w, a)
+	for j := 0; j < n; j++ {
+		col := s.w[j*m : (j+1)*m]
+		s.cs[j] = pow2Scale(col)
+		for i := range col {
+			col[i] *= s.cs[j]
+		}
+	}
+	copy(s.qb, b)
+	s.bscale = pow2Scale(s.qb)
+	for i := range s.qb {
+		s.qb[i] *= s.bscale
+	}
+	return s.factor()
+}
+
+// pow2Scale returns the power of two that scales the largest magnitude in
+// x into [0.5, 1), or 1 for a zero x.
+func pow2Scale(x []float64) float64 {
+	var mx float64
+	for _, v := range x {
+		mx = math.Max(mx, math.Abs(v))
+	}
+	if mx == 0 {
+		return 1
+	}
+	_, e := math.Frexp(mx)
+	return math.Ldexp(1, -e)
+}
+
+// checkFinite reports an overflow of the rescaled factorization.
+func (s *Solver) checkFinite(rho0 float64) error {
+	ok := isFinite(rho0)
 	for _, v := range s.c {
 		ok = ok && isFinite(v)
+	}
+	for j := 0; j < s.n; j++ {
+		for i := 0; i <= j && i < s.m; i++ {
+			ok = ok && isFinite(s.w[j*s.m+i])
+		}
+		ok = ok && isFinite(s.rd[j])
 	}
 	if ok {
 		return nil
 	}
-	return locateNonFinite(a, b)
+	return &nonFiniteError{}
 }
 
 func isFinite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
 
-func locateNonFinite(a mat.Matrix, b []float64) error {
+// scanNonFinite returns an error naming the first NaN or Inf in a or b,
+// or nil.
+func scanNonFinite(a mat.Matrix, b []float64) error {
 	m, n := a.Dims()
 	for i := 0; i < m; i++ {
 		for j := 0; j < n; j++ {
@@ -332,7 +417,7 @@ func locateNonFinite(a mat.Matrix, b []float64) error {
 			return &nonFiniteError{where: "b[" + itoa(i) + "]", v: v}
 		}
 	}
-	return &nonFiniteError{}
+	return nil
 }
 
 // scaleR writes R D^-1 into t (n x n, column-major, zero below the

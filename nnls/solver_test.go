@@ -406,3 +406,72 @@ type generic struct{ m *mat.Dense }
 func (g generic) Dims() (int, int)    { return g.m.Dims() }
 func (g generic) At(i, j int) float64 { return g.m.At(i, j) }
 func (g generic) T() mat.Matrix       { return mat.Transpose{Matrix: g} }
+
+// TestExtremeScales checks invariance to the scale of columns and of b,
+// down to magnitudes whose squares underflow and up to ones whose squares
+// overflow. Scaling column j by f_j and b by g scales x_j by g/f_j; the
+// factors are powers of ten, so the comparison allows 1e-12 relative.
+func TestExtremeScales(t *testing.T) {
+	rng := rand.New(rand.NewPCG(41, 42))
+	p := spectroProblem(rng, 300, 4, 2)
+	var s Solver
+	var r Result
+	if err := s.Solve(&r, p.a, p.b, p.free); err != nil {
+		t.Fatal(err)
+	}
+	want := append([]float64(nil), r.X...)
+	wantRes := r.ResidualNorm
+	wantPas := append([]int(nil), r.Passive...)
+	wantInv := mat.NewSymDense(r.InvNormal.SymmetricDim(), nil)
+	wantInv.CopySym(r.InvNormal)
+	for _, tc := range []struct {
+		f []float64
+		g float64
+	}{
+		{[]float64{1e-3, 1, 1e3, 1, 1e-2, 1e2}, 1},
+		{[]float64{1e-200, 1, 1e200, 1, 1e-180, 1e150}, 1},
+		{[]float64{1, 1, 1, 1, 1, 1}, 1e250},
+		{[]float64{1, 1, 1, 1, 1, 1}, 1e-250},
+		{[]float64{1e-170, 1e-170, 1e-170, 1e-170, 1e-170, 1e-170}, 1e-170},
+	} {
+		a := mat.DenseCopyOf(p.a)
+		m, n := a.Dims()
+		for j := 0; j < n; j++ {
+			for i := 0; i < m; i++ {
+				a.Set(i, j, a.At(i, j)*tc.f[j])
+			}
+		}
+		b := make([]float64, m)
+		for i := range b {
+			b[i] = p.b[i] * tc.g
+		}
+		if err := s.Solve(&r, a, b, p.free); err != nil {
+			t.Fatalf("scales %v, %g: %v", tc.f, tc.g, err)
+		}
+		for j := range want {
+			if !scalar.EqualWithinRel(r.X[j], want[j]*tc.g/tc.f[j], 1e-12) {
+				t.Errorf("scales %v, %g: x[%d] = %g, want %g", tc.f, tc.g, j, r.X[j], want[j]*tc.g/tc.f[j])
+			}
+		}
+		if !scalar.EqualWithinRel(r.ResidualNorm, wantRes*tc.g, 1e-12) {
+			t.Errorf("residual %g, want %g", r.ResidualNorm, wantRes*tc.g)
+		}
+		if !equalInts(r.Passive, wantPas) {
+			t.Fatalf("passive %v, want %v", r.Passive, wantPas)
+		}
+		for a, ja := range r.Passive {
+			for b, jb := range r.Passive {
+				w := wantInv.At(a, b) / tc.f[ja] / tc.f[jb]
+				if math.Abs(w) > 1e300 {
+					continue // not representable
+				}
+				// Entries are compared relative to sqrt(inv_aa inv_bb):
+				// some are roundoff-level zeros (orthogonal columns).
+				scale := math.Sqrt(wantInv.At(a, a)*wantInv.At(b, b)) / tc.f[ja] / tc.f[jb]
+				if !scalar.EqualWithinAbsOrRel(r.InvNormal.At(a, b), w, 1e-10*scale, 1e-10) {
+					t.Errorf("InvNormal[%d,%d] = %g, want %g", a, b, r.InvNormal.At(a, b), w)
+				}
+			}
+		}
+	}
+}
