@@ -92,10 +92,10 @@ type Solver struct {
 	pas    []int     // n: result Passive
 	posOf  []int     // n: passive position of each column
 	inv    mat.SymDense
-	np     int     // passive columns after the last solve
+	np     int       // passive columns after the last solve
 	bscale float64   // power of two applied to b (1 unless rescaled)
 	cs     []float64 // n: power of two applied to each column (1 unless rescaled)
-	iter   int     // outer iterations of the last solve
+	iter   int       // outer iterations of the last solve
 }
 
 func (s *Solver) resize(m, n int) {
