@@ -245,3 +245,55 @@ func TestMapAllocs(t *testing.T) {
 		t.Errorf("%v allocations per pixel, want 0", allocs)
 	}
 }
+
+func TestMapWriteDir(t *testing.T) {
+	sm := newSynthMap(6, 8, 300, 1, 0.01, 5)
+	res, err := Map(context.Background(), sm.cube, testRefs(3), MapOptions{Fit: fit.Options{MaxShift: 2}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	dir := filepath.Join(t.TempDir(), "out")
+	files, err := res.WriteDir(dir, func(tmp string) error {
+		return os.WriteFile(filepath.Join(tmp, "extra.txt"), []byte("x"), 0o644)
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := []string{"chi2.npy", "extra.txt", "fraction-metal.npy", "fraction-nitride.npy", "fraction-oxide.npy", "shift.npy", "map.json"}
+	if strings.Join(files, " ") != strings.Join(want, " ") {
+		t.Errorf("files %v, want %v", files, want)
+	}
+	ents, _ := os.ReadDir(dir)
+	if len(ents) != len(want) {
+		t.Errorf("%d entries in the folder, want %d (no temporary folder left)", len(ents), len(want))
+	}
+	a, err := npy.ReadFile(filepath.Join(dir, "fraction-oxide.npy"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if a.Shape[0] != 6 || a.Shape[1] != 8 || a.Data[13] != res.Fractions[1][13] {
+		t.Errorf("fraction-oxide.npy shape %v", a.Shape)
+	}
+	b, _ := os.ReadFile(filepath.Join(dir, "map.json"))
+	for _, s := range []string{`"schema": "statemix.map/v1"`, `"width": 8`, `"height": 6`, `"state": "nitride"`, `"seconds":`} {
+		if !strings.Contains(string(b), s) {
+			t.Errorf("map.json lacks %s:\n%s", s, b)
+		}
+	}
+	// A failing extra leaves nothing behind.
+	dir2 := filepath.Join(t.TempDir(), "out2")
+	if _, err := res.WriteDir(dir2, func(string) error { return errors.New("boom") }); err == nil {
+		t.Fatal("no error from a failing extra")
+	}
+	if ents, _ := os.ReadDir(dir2); len(ents) != 0 {
+		t.Errorf("%d entries left after a failed write", len(ents))
+	}
+}
+
+func TestFractionNames(t *testing.T) {
+	r := &MapResult{Components: []MapComponent{{State: "oxide"}, {State: "other:Ti suboxide"}, {State: "oxide"}, {Name: "X"}}}
+	got := strings.Join(r.FractionNames(), " ")
+	if want := "fraction-oxide fraction-other-ti-suboxide fraction-oxide-2 fraction-x"; got != want {
+		t.Errorf("names %q, want %q", got, want)
+	}
+}
