@@ -24,7 +24,7 @@ func duplicateWarnings(e *Entry, existing []*Entry) []Warning {
 	if e.Kind != KindReference || e.Spectrum == nil {
 		return nil
 	}
-	fe, ok := mainFeature(e.Spectrum)
+	fe, ok := MainFeature(e.Spectrum)
 	if !ok {
 		return nil
 	}
@@ -34,7 +34,7 @@ func duplicateWarnings(e *Entry, existing []*Entry) []Warning {
 			x.Spectrum == nil || x.Spectrum.Mode != e.Spectrum.Mode {
 			continue
 		}
-		fx, ok := mainFeature(x.Spectrum)
+		fx, ok := MainFeature(x.Spectrum)
 		if !ok {
 			continue
 		}

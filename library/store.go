@@ -483,8 +483,8 @@ func (s *Store) Add(es ...*Entry) ([]*Entry, []Warning, error) {
 	if err != nil {
 		return nil, nil, err
 	}
-	existing, errs := s.Entries()
-	if err := s.checkNew(es, existing, errs); err != nil {
+	existing, _ := s.Entries()
+	if err := s.checkNew(es, existing); err != nil {
 		return nil, nil, err
 	}
 	rev := m.Revision + 1
@@ -517,7 +517,7 @@ func (s *Store) Add(es ...*Entry) ([]*Entry, []Warning, error) {
 // checkNew checks normalised new entries against the library: IDs not
 // already there (nor taken by a corrupt file), names unique, and gives
 // entries without a name a default one.
-func (s *Store) checkNew(es []*Entry, existing []*Entry, errs []error) error {
+func (s *Store) checkNew(es []*Entry, existing []*Entry) error {
 	byID := map[string]*Entry{}
 	names := map[string]string{}
 	for _, x := range existing {
@@ -561,7 +561,6 @@ func (s *Store) checkNew(es []*Entry, existing []*Entry, errs []error) error {
 		e.Name = n
 		names[n] = ""
 	}
-	_ = errs
 	return nil
 }
 

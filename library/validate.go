@@ -299,14 +299,15 @@ func applyEdits(e *Entry, set map[string]string) error {
 	return nil
 }
 
-// mainFeature returns the energy of the spectrum's main feature: for a
+// MainFeature returns the energy in eV of the spectrum's main feature: for a
 // derivative spectrum the deepest minimum (the conventional derivative peak
 // energy), for a direct one the highest maximum, as lineshape's Features
 // defines PeakEnergy. A uniform spectrum of at least 9 channels is first
 // smoothed by a 9-point quadratic Savitzky-Golay filter (the customary
 // choice Features' documentation recommends), so single noisy channels do
-// not move the feature.
-func mainFeature(s *lineshape.Spectrum) (float64, bool) {
+// not move the feature. It reports false for spectra of fewer than 3
+// channels. The plausibility and duplicate checks of Add use it.
+func MainFeature(s *lineshape.Spectrum) (float64, bool) {
 	if s == nil || len(s.Y) < 3 {
 		return 0, false
 	}
@@ -337,7 +338,7 @@ func intrinsicWarnings(e *Entry) []Warning {
 		w(WarnNoEstimate, "no Chung-Jenkins estimate to check the energy against: %v", err)
 		return ws
 	}
-	feat, ok := mainFeature(e.Spectrum)
+	feat, ok := MainFeature(e.Spectrum)
 	if !ok {
 		return ws
 	}

@@ -221,9 +221,8 @@ func runLibraryShow(app *App, o *libraryShowOptions) error {
 			step = fmt.Sprintf("step %g eV", s.Axis.Step)
 		}
 		row("spectrum", fmt.Sprintf("%s, %d channels, %s eV, %s", s.Mode, s.Len(), energyRange(e), step))
-		if s.Len() >= 3 {
-			ft := s.Features(0)
-			row("main feature", fmt.Sprintf("%.1f eV (peak-to-peak %.4g)", ft.PeakEnergy, ft.PeakToPeak))
+		if fe, ok := library.MainFeature(s); ok {
+			row("main feature", fmt.Sprintf("%.1f eV (peak-to-peak %.4g)", fe, s.Features(0).PeakToPeak))
 		}
 	}
 	if len(e.Fit) > 0 {
