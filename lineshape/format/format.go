@@ -6,6 +6,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -186,6 +187,9 @@ func decodeJSON(b []byte, name string) ([]*lineshape.Spectrum, error) {
 		}
 		if err := s.Validate(); err != nil {
 			return nil, &lineshape.InputError{File: name, Block: i, Err: err}
+		}
+		if hi := s.Axis.Hi(); math.IsInf(hi, 0) || math.IsNaN(hi) {
+			return nil, &lineshape.InputError{File: name, Block: i, Err: fmt.Errorf("energy axis runs to %v eV", hi)}
 		}
 	}
 	return jf.Spectra, nil
