@@ -62,7 +62,7 @@ counting from 1.`,
 		},
 	}
 	f := cmd.Flags()
-	f.IntVar(&opts.Block, "block", 0, "convert only the N-th spectrum, counting from 1 (default every spectrum)")
+	f.IntVar(&opts.Block, "block", 0, "convert only the `N`-th spectrum, counting from 1 (default every spectrum)")
 	f.StringVar(&opts.To, "to", "", "turn spectra into `mode` derivative or direct (default keep each spectrum's mode)")
 	f.Float64Var(&opts.Modulation, "modulation", 0, "modulation peak-to-peak `EV` for --to derivative (default the file's; 0 = plain derivative)")
 	f.StringVar(&opts.Format, "format", "", "output `format`: csv, vamas or json (default from the -o name, else csv)")
