@@ -20,7 +20,8 @@ const maxLineEcho = 40
 // messages (the file name as the user gave it). Lines may end in CRLF, LF
 // or CR; a blank line is a value (an empty text item), never skipped.
 // Errors about the content are *lineshape.InputError with the 1-based line
-// and the 0-based block; errors reading r are returned as they are.
+// and the 0-based block; an error reading r is returned wrapped, and is
+// not an InputError.
 func Read(r io.Reader, name string) (*File, error) {
 	data, err := io.ReadAll(r)
 	if err != nil {
@@ -143,7 +144,7 @@ func (p *parser) must(what string) (string, bool) {
 
 func (p *parser) text(what string, dst *string) {
 	if s, ok := p.must(what); ok {
-		*dst = s
+		*dst = strings.Clone(s) // do not keep the whole file alive
 	}
 }
 
