@@ -1,20 +1,885 @@
 package main
 
 import (
+	"crypto/sha256"
+	"encoding/hex"
+	"encoding/json"
 	"errors"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"time"
 
+	"github.com/schollz/progressbar/v3"
 	"github.com/spf13/cobra"
+	"github.com/spf13/pflag"
+	"golang.org/x/term"
+
+	"statemix/cmd/statemix/render"
+	"statemix/library"
+	"statemix/lineshape"
+	"statemix/lineshape/fit"
+	"statemix/lineshape/format"
+	"statemix/lineshape/quant"
 )
 
-// newFitCmd is a placeholder until the fit command lands; its owner
-// replaces this file.
+// fitOptions holds the flag values of statemix fit and what runFit derives
+// from them.
+type fitOptions struct {
+	File        string
+	Block       int      // 1-based; 0 when not given
+	Refs        []string // --refs, split at commas
+	RefFiles    []string // --ref-file FILE[:state]
+	Suggest     int      // --suggest K; 0 when not given
+	Element     string
+	Modulation  float64
+	Window      string // "LO:HI"
+	Shift       string
+	MaxShift    float64
+	Background  int
+	Normalize   string
+	Uncertainty string
+	Samples     int
+	Seed        uint64
+	Plot        string
+	Report      string
+	Save        bool
+	Atomic      bool
+	Overlayer   string // OXIDE_STATE:SUBSTRATE_STATE
+	TakeOff     float64
+	TakeOffSet  bool
+
+	// Derived by runFit.
+	fit         fit.Options
+	inputSHA256 string
+	libRevision int
+	libDir      string
+	entries     map[string]*library.Entry // library entries of the references, by id
+	refExtra    map[string]map[string]string
+	command     string       // the command line that reproduces the run
+	doc         *fitDocument // the statemix.fit/v1 document
+}
+
 func newFitCmd(app *App) *cobra.Command {
-	return &cobra.Command{
-		Use:    "fit",
-		Short:  "(not yet available)",
-		Hidden: true,
+	opts := &fitOptions{}
+	cmd := &cobra.Command{
+		Use:   "fit FILE",
+		Short: "Decompose a spectrum into chemical-state fractions with its references",
+		Long: `Decompose a spectrum into chemical-state fractions with its references.
+
+Fit models the unknown spectrum in FILE as a nonnegative combination of
+reference spectra of known chemical states, each shifted in energy, plus a
+polynomial background of free sign, and reports each state's fraction (its
+coefficient over the sum of all coefficients, against references kept at the
+intensity they were recorded with), its uncertainty and 95 % interval, the
+shift each reference needed, and how good the fit is. References come from
+the library (--refs by id, id prefix or name; --element for all of an
+element's references) or from files (--ref-file FILE, with the state read
+from the file or given as FILE:state). A direct unknown is compared with
+derivative references by lock-in emulation at their modulation. Uncertainties
+come from a block bootstrap of the residuals that refits the shifts too (a
+Poisson resampling for direct spectra of counts), or from the parameter
+covariance corrected for correlated noise (--uncertainty covariance, fast).
+--plot draws the fit, --report writes a self-contained HTML page with the
+figure, the table, the settings and the provenance (file hash, reference ids,
+library revision) needed to reproduce the result.`,
+		Example: `  # Two library references by name, common shift, bootstrap uncertainty
+  statemix fit spot1.vms --refs "Ti foil","TiO2 film"
+
+  # Every titanium reference in the library, a shift per reference
+  statemix fit spot1.vms --element Ti --shift each --plot spot1.svg
+
+  # No library: references from files, state given after the colon
+  statemix fit unknown.csv --ref-file metal.csv:metal --ref-file oxide.csv:oxide
+
+  # Fast covariance uncertainty, a fixed window, JSON for a script
+  statemix fit spot1.vms --refs 3f2a,9c1d --window 370:430 --uncertainty covariance --json
+
+  # Oxide thickness on the metal from the fitted coefficients
+  statemix fit spot1.vms --element Al --overlayer oxide:metal --take-off 42`,
+		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
-			return errors.New("fit: not yet available in this build")
+			opts.File = args[0]
+			opts.TakeOffSet = cmd.Flags().Changed("take-off")
+			opts.command = reproduceCommand(cmd, args)
+			return runFit(app, opts)
 		},
 	}
+	f := cmd.Flags()
+	f.IntVar(&opts.Block, "block", 0, "fit the `N`-th spectrum of FILE, counting from 1 (needed when FILE holds several)")
+	f.StringSliceVar(&opts.Refs, "refs", nil, "library references by id, id prefix or name, comma-separated (`REF,REF,...`)")
+	f.StringArrayVar(&opts.RefFiles, "ref-file", nil, "a reference spectrum from `FILE[:state]` (repeatable)")
+	f.IntVar(&opts.Suggest, "suggest", 0, "add the `K` library references most like the unknown (default 4 when given without a value)")
+	f.Lookup("suggest").NoOptDefVal = "4"
+	f.StringVar(&opts.Element, "element", "", "use every library reference of element `EL` (with --refs: check they are of EL)")
+	f.Float64Var(&opts.Modulation, "modulation", 0, "peak-to-peak modulation in `EV` for lock-in emulation (default the recorded one)")
+	f.StringVar(&opts.Window, "window", "", "fit window `LO:HI` in eV (default the overlap of unknown and references less the maximum shift)")
+	f.StringVar(&opts.Shift, "shift", "common", "energy shifts: none, common or each")
+	f.Float64Var(&opts.MaxShift, "max-shift", 3, "largest shift in `EV`")
+	f.IntVar(&opts.Background, "background", 1, "degree `DEG` of the polynomial background (-1 for none)")
+	f.StringVar(&opts.Normalize, "normalize", "none", "scale references first: none, peak-to-peak or area (changes what a fraction means)")
+	f.StringVar(&opts.Uncertainty, "uncertainty", "bootstrap", "uncertainty method: covariance or bootstrap")
+	f.IntVar(&opts.Samples, "samples", 300, "bootstrap samples `N`")
+	f.Uint64Var(&opts.Seed, "seed", 1, "bootstrap seed `N` (same seed, same result)")
+	f.StringVar(&opts.Plot, "plot", "", "draw the fit to `FILE.svg|.png`")
+	f.StringVar(&opts.Report, "report", "", "write a self-contained HTML report to `FILE.html`")
+	f.BoolVar(&opts.Save, "save", false, "archive the measurement and its fit in the library")
+	f.BoolVar(&opts.Atomic, "atomic", false, "also report atomic fractions (matrix-corrected with the references' compounds)")
+	f.StringVar(&opts.Overlayer, "overlayer", "", "overlayer thickness from the fit, `OXIDE_STATE:SUBSTRATE_STATE`")
+	f.Float64Var(&opts.TakeOff, "take-off", 0, "analyser take-off angle in `DEG` from the surface for --overlayer (default the file's, else 90)")
+
+	enum := func(name string, vals ...string) {
+		_ = cmd.RegisterFlagCompletionFunc(name, cobra.FixedCompletions(vals, cobra.ShellCompDirectiveNoFileComp))
+	}
+	enum("shift", "none", "common", "each")
+	enum("normalize", "none", "peak-to-peak", "area")
+	enum("uncertainty", "covariance", "bootstrap")
+	_ = cmd.RegisterFlagCompletionFunc("refs", completeRefs(app))
+	_ = cmd.RegisterFlagCompletionFunc("element", completeElements(app))
+	_ = cmd.RegisterFlagCompletionFunc("overlayer", func(*cobra.Command, []string, string) ([]string, cobra.ShellCompDirective) {
+		return []string{"oxide:metal", "nitride:metal", "carbide:metal", "silicide:metal"}, cobra.ShellCompDirectiveNoFileComp
+	})
+	_ = cmd.MarkFlagFilename("plot", "svg", "png")
+	_ = cmd.MarkFlagFilename("report", "html")
+	for _, n := range []string{"block", "suggest", "modulation", "window", "max-shift", "background", "samples", "seed", "take-off"} {
+		_ = cmd.RegisterFlagCompletionFunc(n, cobra.NoFileCompletions)
+	}
+	return cmd
+}
+
+// reproduceCommand returns the command line with every flag that was set.
+func reproduceCommand(cmd *cobra.Command, args []string) string {
+	parts := []string{cmd.CommandPath()}
+	for _, a := range args {
+		parts = append(parts, shellQuote(a))
+	}
+	cmd.Flags().Visit(func(f *pflag.Flag) {
+		if f.Name == "json" || f.Name == "quiet" || f.Name == "no-progress" || f.Name == "plot" || f.Name == "report" || f.Name == "save" {
+			return
+		}
+		if sv, ok := f.Value.(pflag.SliceValue); ok {
+			for _, v := range sv.GetSlice() {
+				parts = append(parts, "--"+f.Name, shellQuote(v))
+			}
+			return
+		}
+		if f.Value.Type() == "bool" {
+			parts = append(parts, "--"+f.Name)
+			return
+		}
+		parts = append(parts, "--"+f.Name, shellQuote(f.Value.String()))
+	})
+	return strings.Join(parts, " ")
+}
+
+func shellQuote(s string) string {
+	if s != "" && strings.IndexFunc(s, func(r rune) bool {
+		return !(r == '-' || r == '_' || r == '.' || r == '/' || r == ':' || r == ',' || r == '=' || r == '+' ||
+			(r >= '0' && r <= '9') || (r >= 'a' && r <= 'z') || (r >= 'A' && r <= 'Z'))
+	}) < 0 {
+		return s
+	}
+	return "'" + strings.ReplaceAll(s, "'", `'\''`) + "'"
+}
+
+// parseFitFlags turns the flag values into fit.Options.
+func parseFitFlags(opts *fitOptions) error {
+	var o fit.Options
+	var err error
+	if o.Shift, err = fit.ParseShiftMode(opts.Shift); err != nil {
+		return usageErrorf("--shift: %v", err)
+	}
+	if o.Uncertainty, err = fit.ParseUncertainty(opts.Uncertainty); err != nil {
+		return usageErrorf("--uncertainty: %v", err)
+	}
+	switch opts.Normalize {
+	case "none", "peak-to-peak", "area":
+		n, err := lineshape.ParseNormalization(opts.Normalize)
+		if err != nil {
+			return usageErrorf("--normalize: %v", err)
+		}
+		o.Normalize = n
+	default:
+		return usageErrorf("--normalize %q: want none, peak-to-peak or area", opts.Normalize)
+	}
+	if !(opts.MaxShift > 0) || math.IsInf(opts.MaxShift, 0) {
+		if !(opts.MaxShift == 0 && o.Shift == fit.ShiftNone) {
+			return usageErrorf("--max-shift %v: want a positive number of eV", opts.MaxShift)
+		}
+	}
+	o.MaxShift = opts.MaxShift
+	switch {
+	case opts.Background == 0:
+		o.Background = fit.BackgroundConstant
+	case opts.Background == -1:
+		o.Background = fit.BackgroundNone
+	case opts.Background > 0 && opts.Background <= 6:
+		o.Background = opts.Background
+	default:
+		return usageErrorf("--background %d: want a degree from 0 to 6, or -1 for none", opts.Background)
+	}
+	if opts.Samples < 20 {
+		return usageErrorf("--samples %d: want at least 20", opts.Samples)
+	}
+	o.Samples = opts.Samples
+	o.Seed = opts.Seed
+	if opts.Modulation < 0 || math.IsNaN(opts.Modulation) {
+		return usageErrorf("--modulation %v: want a peak-to-peak amplitude in eV", opts.Modulation)
+	}
+	o.Modulation = opts.Modulation
+	o.Element = opts.Element
+	if opts.Window != "" {
+		lo, hi, ok := strings.Cut(opts.Window, ":")
+		a, err1 := strconv.ParseFloat(strings.TrimSpace(lo), 64)
+		b, err2 := strconv.ParseFloat(strings.TrimSpace(hi), 64)
+		if !ok || err1 != nil || err2 != nil || !(a < b) || math.IsInf(a, 0) || math.IsInf(b, 0) {
+			return usageErrorf("--window %q: want LO:HI in eV with LO < HI", opts.Window)
+		}
+		o.Window = [2]float64{a, b}
+	}
+	if opts.Block < 0 {
+		return usageErrorf("--block %d: blocks count from 1", opts.Block)
+	}
+	if opts.Suggest < 0 {
+		return usageErrorf("--suggest %d: want a number of references", opts.Suggest)
+	}
+	if opts.TakeOffSet && (!(opts.TakeOff > 0) || opts.TakeOff > 90) {
+		return usageErrorf("--take-off %v: want an angle in (0, 90] degrees from the surface", opts.TakeOff)
+	}
+	if opts.TakeOffSet && opts.Overlayer == "" {
+		return usageErrorf("--take-off applies only with --overlayer")
+	}
+	if opts.Plot != "" {
+		if e := strings.ToLower(filepath.Ext(opts.Plot)); e != ".svg" && e != ".png" {
+			return usageErrorf("--plot %s: want a .svg or .png file name", opts.Plot)
+		}
+	}
+	opts.fit = o
+	return nil
+}
+
+// runFit reads the unknown and the references, fits, and writes the results.
+func runFit(app *App, opts *fitOptions) error {
+	if err := parseFitFlags(opts); err != nil {
+		return err
+	}
+	raw, err := os.ReadFile(opts.File)
+	if err != nil {
+		return err
+	}
+	sum := sha256.Sum256(raw)
+	opts.inputSHA256 = hex.EncodeToString(sum[:])
+	specs, err := format.ReadFile(opts.File, format.Options{Block: opts.Block})
+	if err != nil {
+		if errors.Is(err, format.ErrNoBlock) {
+			return usageErrorf("--block: %v", err)
+		}
+		return err
+	}
+	if len(specs) > 1 {
+		return usageErrorf("%s holds %d spectra: choose one with --block N (or fit them all with statemix profile)", opts.File, len(specs))
+	}
+	unknown := specs[0]
+	if unknown.Meta.Source == "" {
+		unknown.Meta.Source = opts.File
+	}
+	if opts.Block == 0 {
+		opts.Block = 1
+	}
+
+	refs, err := gatherReferences(app, unknown, opts)
+	if err != nil {
+		return err
+	}
+	var bar *progressbar.ProgressBar
+	if opts.fit.Uncertainty == fit.Bootstrap && showProgress(app) {
+		bar = progressbar.NewOptions(opts.fit.Samples, progressbar.OptionSetWriter(app.Err),
+			progressbar.OptionSetDescription("bootstrap"), progressbar.OptionClearOnFinish(), progressbar.OptionThrottle(100*time.Millisecond))
+		opts.fit.Progress = func(done, total int) { _ = bar.Set(done) }
+	}
+	m, err := fit.Prepare(unknown, refs, opts.fit)
+	if err != nil {
+		return fitError(err)
+	}
+	res, err := m.Fit(app.Ctx, unknown)
+	if bar != nil {
+		_ = bar.Finish()
+	}
+	if err != nil {
+		return fitError(err)
+	}
+
+	doc := buildFitDocument(opts, unknown, res)
+	opts.doc = doc
+	var extra []render.Section
+	if opts.Atomic {
+		at, err := atomicFractions(opts, res)
+		if err != nil {
+			return err
+		}
+		doc.Atomic = at
+		extra = append(extra, atomicSection(at))
+	}
+	if opts.Overlayer != "" {
+		ov, err := overlayerThickness(opts, unknown, res)
+		if err != nil {
+			return err
+		}
+		doc.Overlayer = ov
+		doc.Warnings = append(doc.Warnings, ov.Warnings...)
+		extra = append(extra, overlayerSection(ov))
+	}
+	if opts.Save {
+		id, err := saveRun(app, unknown, res, opts)
+		if err != nil {
+			return fmt.Errorf("fit: --save: %w", err)
+		}
+		doc.Saved = id
+	}
+	if opts.Plot != "" {
+		if err := render.FitFigure(res, filepath.Base(opts.File)).WriteFile(opts.Plot); err != nil {
+			return err
+		}
+	}
+	if opts.Report != "" {
+		if err := writeReport(app, opts, res, extra); err != nil {
+			return err
+		}
+	}
+	if app.JSON {
+		return writeFitJSON(app.Out, doc)
+	}
+	return writeFitHuman(app, opts, res, doc)
+}
+
+// showProgress reports whether a progress bar belongs on stderr.
+func showProgress(app *App) bool {
+	if app.NoProgress || app.Quiet {
+		return false
+	}
+	f, ok := app.Err.(*os.File)
+	return ok && term.IsTerminal(int(f.Fd()))
+}
+
+// fitError maps fit errors to exit statuses: collinear references are bad
+// input (exit 3), like *lineshape.InputError already is.
+func fitError(err error) error {
+	var ce *fit.CollinearError
+	if errors.As(err, &ce) {
+		return badInput(err)
+	}
+	return err
+}
+
+// gatherReferences collects the references of --refs, --element,
+// --ref-file and --suggest.
+func gatherReferences(app *App, unknown *lineshape.Spectrum, opts *fitOptions) ([]fit.Reference, error) {
+	var refs []fit.Reference
+	opts.entries = map[string]*library.Entry{}
+	opts.refExtra = map[string]map[string]string{}
+	useLibrary := len(opts.Refs) > 0 || (opts.Element != "" && len(opts.RefFiles) == 0) || opts.Save
+	var st *library.Store
+	if useLibrary {
+		s, err := app.openLibrary(false)
+		if err != nil {
+			return nil, err
+		}
+		st = s
+		opts.libRevision = st.Revision()
+		opts.libDir = st.Dir()
+	}
+	addEntry := func(e *library.Entry) error {
+		if e.Kind == library.KindMeasurement {
+			return usageErrorf("--refs: %s (%s) is an archived measurement, not a reference", e.Name, e.ID)
+		}
+		if e.Spectrum == nil {
+			return badInputf("reference %s (%s) has no spectrum", e.Name, e.ID)
+		}
+		opts.entries[e.ID] = e
+		refs = append(refs, fit.Reference{ID: e.ID, Name: e.Name, Element: e.Element, State: e.State, Spectrum: e.Spectrum})
+		return nil
+	}
+	for _, r := range opts.Refs {
+		r = strings.TrimSpace(r)
+		if r == "" {
+			continue
+		}
+		e, err := st.Resolve(r)
+		if err != nil {
+			var nf *library.NotFoundError
+			var am *library.AmbiguousError
+			if errors.As(err, &nf) || errors.As(err, &am) {
+				return nil, usageErrorf("--refs: %v", err)
+			}
+			return nil, err
+		}
+		if err := addEntry(e); err != nil {
+			return nil, err
+		}
+	}
+	if opts.Element != "" && len(opts.Refs) == 0 && len(opts.RefFiles) == 0 {
+		es, _ := st.Entries()
+		n := 0
+		for _, e := range es {
+			if e.Kind != library.KindMeasurement && strings.EqualFold(e.Element, opts.Element) {
+				if err := addEntry(e); err != nil {
+					return nil, err
+				}
+				n++
+			}
+		}
+		if n == 0 && opts.Suggest == 0 {
+			return nil, badInputf("the library %s has no references of element %s", st.Dir(), opts.Element)
+		}
+	}
+	for _, rf := range opts.RefFiles {
+		r, extra, err := readRefFile(rf)
+		if err != nil {
+			return nil, err
+		}
+		opts.refExtra[r.ID] = extra
+		refs = append(refs, r)
+	}
+	if opts.Suggest > 0 {
+		sug, err := suggestReferences(app, unknown, opts, opts.Suggest)
+		if err != nil {
+			return nil, fmt.Errorf("fit: --suggest: %w", err)
+		}
+		have := map[string]bool{}
+		for _, r := range refs {
+			have[r.ID] = true
+		}
+		for _, r := range sug {
+			if !have[r.ID] {
+				refs = append(refs, r)
+				have[r.ID] = true
+			}
+		}
+	}
+	if len(refs) == 0 {
+		return nil, badInputf("%s: no references: give --refs, --element or --ref-file", opts.File)
+	}
+	return refs, nil
+}
+
+// readRefFile reads --ref-file FILE[:state]. A statemix library entry file
+// gives its labels; otherwise the spectrum's Meta.Extra "element", "state"
+// (or the VAMAS "species") and "compound" do, and a :state suffix wins.
+func readRefFile(arg string) (fit.Reference, map[string]string, error) {
+	path, state := arg, ""
+	if i := strings.LastIndex(arg, ":"); i > 0 && !strings.ContainsAny(arg[i+1:], `/\`) {
+		if _, err := os.Stat(arg); err != nil {
+			path, state = arg[:i], arg[i+1:]
+		}
+	}
+	if e, err := library.ReadEntryFile(path); err == nil && e.Spectrum != nil {
+		if state == "" {
+			state = e.State
+		}
+		id := e.ID
+		if id == "" {
+			id = filepath.Base(path)
+		}
+		return fit.Reference{ID: id, Name: e.Name, Element: e.Element, State: state, Spectrum: e.Spectrum},
+			map[string]string{"compound": e.Compound}, nil
+	}
+	specs, err := format.ReadFile(path, format.Options{})
+	if err != nil {
+		return fit.Reference{}, nil, err
+	}
+	if len(specs) != 1 {
+		return fit.Reference{}, nil, badInputf("--ref-file %s: holds %d spectra, want one reference", path, len(specs))
+	}
+	s := specs[0]
+	ex := s.Meta.Extra
+	if state == "" {
+		state = ex["state"]
+	}
+	if state == "" {
+		return fit.Reference{}, nil, badInputf("--ref-file %s: the file names no chemical state: give it as %s:STATE", path, path)
+	}
+	if _, err := library.ParseState(state); err != nil {
+		return fit.Reference{}, nil, usageErrorf("--ref-file %s: %v", arg, err)
+	}
+	el := ex["element"]
+	if el == "" {
+		el = ex["species"]
+	}
+	name := ex["name"]
+	if name == "" {
+		name = strings.TrimSuffix(filepath.Base(path), filepath.Ext(path))
+	}
+	return fit.Reference{ID: "file:" + path, Name: name, Element: el, State: state, Spectrum: s},
+		map[string]string{"compound": ex["compound"]}, nil
+}
+
+// fitDocument is the statemix.fit/v1 JSON document.
+type fitDocument struct {
+	Schema     string          `json:"schema"`
+	Input      fitInput        `json:"input"`
+	WindowEV   [2]float64      `json:"window_ev"`
+	Settings   fitSettings     `json:"settings"`
+	Components []fit.Component `json:"components"`
+	Quality    fit.Quality     `json:"quality"`
+	Library    fitLibrary      `json:"library"`
+	Warnings   []string        `json:"warnings"`
+	// Added fields (the schema allows additions).
+	Atomic    []atomicFraction `json:"atomic,omitempty"`
+	Overlayer *overlayerResult `json:"overlayer,omitempty"`
+	Saved     string           `json:"saved,omitempty"`
+}
+
+type fitInput struct {
+	File   string `json:"file"`
+	Block  int    `json:"block"`
+	Mode   string `json:"mode"`
+	SHA256 string `json:"sha256"`
+}
+
+type fitSettings struct {
+	Shift        string  `json:"shift"`
+	MaxShiftEV   float64 `json:"max_shift_ev"`
+	Background   int     `json:"background_degree"`
+	Normalize    string  `json:"normalize"`
+	Uncertainty  string  `json:"uncertainty"`
+	Samples      int     `json:"samples"`
+	Seed         uint64  `json:"seed"`
+	ModulationEV float64 `json:"modulation_ev,omitempty"`
+	FitMode      string  `json:"fit_mode"`
+}
+
+type fitLibrary struct {
+	Revision int    `json:"revision"`
+	Dir      string `json:"dir,omitempty"`
+}
+
+func buildFitDocument(opts *fitOptions, unknown *lineshape.Spectrum, res *fit.Result) *fitDocument {
+	o := res.Options
+	d := &fitDocument{
+		Schema:   "statemix.fit/v1",
+		Input:    fitInput{File: opts.File, Block: opts.Block, Mode: unknown.Mode.String(), SHA256: opts.inputSHA256},
+		WindowEV: res.Window,
+		Settings: fitSettings{Shift: o.Shift.String(), MaxShiftEV: o.MaxShift, Background: o.BackgroundDegree(),
+			Normalize: opts.Normalize, Uncertainty: res.Uncertainty.String(), Samples: o.Samples, Seed: o.Seed,
+			ModulationEV: res.Modulation, FitMode: res.Mode.String()},
+		Components: res.Components,
+		Quality:    res.Quality,
+		Library:    fitLibrary{Revision: opts.libRevision, Dir: opts.libDir},
+		Warnings:   append([]string{}, res.Warnings...),
+	}
+	if res.Uncertainty == fit.Covariance {
+		d.Settings.Samples = 0
+	}
+	return d
+}
+
+// writeFitJSON is the one encoder of statemix.fit/v1.
+func writeFitJSON(w io.Writer, d *fitDocument) error {
+	enc := json.NewEncoder(w)
+	enc.SetIndent("", "  ")
+	return enc.Encode(d)
+}
+
+func writeFitHuman(app *App, opts *fitOptions, res *fit.Result, doc *fitDocument) error {
+	w := app.Out
+	if !app.Quiet {
+		fmt.Fprintf(w, "%s", opts.File)
+		if opts.Block > 1 {
+			fmt.Fprintf(w, " block %d", opts.Block)
+		}
+		fmt.Fprintf(w, ": %d references\n\n", len(res.Components))
+	}
+	if err := render.FitTable(res).WriteText(w); err != nil {
+		return err
+	}
+	fmt.Fprintf(w, "\nwindow %.5g-%.5g eV, %s fit", res.Window[0], res.Window[1], res.Mode)
+	if res.Modulation > 0 {
+		fmt.Fprintf(w, ", modulation %.3g eV", res.Modulation)
+	}
+	fmt.Fprintf(w, ", shift %s, uncertainty by %s", res.Options.Shift, res.Uncertainty)
+	if res.Uncertainty == fit.Bootstrap && res.Samples != nil {
+		fmt.Fprintf(w, " (%d samples, %s)", len(res.Samples.Fractions), res.Samples.Method)
+	}
+	fmt.Fprintf(w, "\n%s\n", render.QualityText(res.Quality))
+	if len(doc.Atomic) > 0 {
+		fmt.Fprintln(w, "\natomic fractions (matrix-corrected):")
+		_ = atomicTable(doc.Atomic).WriteText(w)
+	}
+	if ov := doc.Overlayer; ov != nil {
+		fmt.Fprintf(w, "\n%s thickness on %s: %.3g ± %.2g nm (take-off %.3g°, %s)\n", ov.Overlayer, ov.Substrate, ov.ThicknessNM, ov.SDNM, ov.TakeOffDeg, ov.Method)
+	}
+	if doc.Saved != "" {
+		fmt.Fprintf(w, "saved as %s\n", doc.Saved)
+	}
+	for _, s := range doc.Warnings {
+		app.Warn(s)
+	}
+	return nil
+}
+
+func writeReport(app *App, opts *fitOptions, res *fit.Result, extra []render.Section) error {
+	settings := [][2]string{
+		{"shift", res.Options.Shift.String()},
+		{"maximum shift", fmt.Sprintf("%.3g eV", res.Options.MaxShift)},
+		{"background degree", fmt.Sprint(res.Options.BackgroundDegree())},
+		{"normalisation", opts.Normalize},
+		{"uncertainty", res.Uncertainty.String()},
+		{"window", fmt.Sprintf("%.5g–%.5g eV", res.Window[0], res.Window[1])},
+		{"fit mode", res.Mode.String()},
+	}
+	if res.Modulation > 0 {
+		settings = append(settings, [2]string{"modulation", fmt.Sprintf("%.3g eV peak to peak", res.Modulation)})
+	}
+	if res.Uncertainty == fit.Bootstrap {
+		settings = append(settings, [2]string{"samples / seed", fmt.Sprintf("%d / %d", res.Options.Samples, res.Options.Seed)})
+	}
+	info := render.ReportInfo{InputFile: opts.File, InputSHA256: opts.inputSHA256, Block: opts.Block - 1,
+		Settings: settings, LibraryDir: opts.libDir, LibraryRevision: int64(opts.libRevision),
+		Version: Version, Generated: app.Now(), Command: opts.command, Extra: extra}
+	f, err := os.CreateTemp(filepath.Dir(opts.Report), ".statemix-report-*")
+	if err != nil {
+		return err
+	}
+	defer os.Remove(f.Name())
+	if err := render.FitReport(f, res, info); err != nil {
+		f.Close()
+		return fmt.Errorf("--report %s: %w", opts.Report, err)
+	}
+	if err := f.Close(); err != nil {
+		return err
+	}
+	return os.Rename(f.Name(), opts.Report)
+}
+
+// atomicFraction is one state's matrix-corrected atomic fraction.
+type atomicFraction struct {
+	Ref      string  `json:"ref"`
+	State    string  `json:"state"`
+	Compound string  `json:"compound"`
+	Factor   float64 `json:"factor"` // N L (1 + r), atoms/cm3 x nm
+	Fraction float64 `json:"atomic_fraction"`
+	SD       float64 `json:"atomic_fraction_sd"`
+}
+
+// compoundOf returns the material of a component's reference.
+func compoundOf(opts *fitOptions, c fit.Component) (quant.Material, error) {
+	var formula string
+	var ov quant.Override
+	if e, ok := opts.entries[c.Ref]; ok {
+		formula = e.Compound
+		if e.Density > 0 {
+			ov.Density = &e.Density
+		}
+		if e.Valence > 0 {
+			ov.ValenceElectrons = &e.Valence
+		}
+		if e.BandGap > 0 {
+			ov.BandGap = &e.BandGap
+		}
+	} else if ex, ok := opts.refExtra[c.Ref]; ok {
+		formula = ex["compound"]
+	}
+	if formula == "" {
+		if c.State == "metal" && c.Element != "" {
+			formula = c.Element
+		} else {
+			return quant.Material{}, badInputf("reference %s (%s) has no compound: set it (statemix library edit REF --set compound=FORMULA)", label(c), c.State)
+		}
+	}
+	m, err := quant.ResolveMaterial(formula, ov)
+	if err != nil {
+		return m, badInputf("reference %s: %v", label(c), err)
+	}
+	return m, nil
+}
+
+func label(c fit.Component) string {
+	if c.Name != "" {
+		return c.Name
+	}
+	return c.Ref
+}
+
+// atomicFractions converts the fitted coefficients to atomic fractions
+// with quant.AtomicFractions, at the centre of the fit window.
+func atomicFractions(opts *fitOptions, res *fit.Result) ([]atomicFraction, error) {
+	energy := (res.Window[0] + res.Window[1]) / 2
+	k := len(res.Components)
+	factors := make([]float64, k)
+	c := make([]float64, k)
+	out := make([]atomicFraction, k)
+	for i, comp := range res.Components {
+		if comp.Element == "" {
+			return nil, badInputf("--atomic: reference %s names no element", label(comp))
+		}
+		m, err := compoundOf(opts, comp)
+		if err != nil {
+			return nil, err
+		}
+		f, _, err := quant.StandardFactor(m, comp.Element, energy, 0)
+		if err != nil {
+			return nil, badInputf("--atomic: reference %s: %v", label(comp), err)
+		}
+		factors[i], c[i] = f, comp.Coefficient
+		out[i] = atomicFraction{Ref: comp.Ref, State: comp.State, Compound: m.Formula, Factor: f}
+	}
+	x, sd, err := quant.AtomicFractions(c, res.CoefficientCovariance(), factors)
+	if err != nil {
+		return nil, badInputf("--atomic: %v", err)
+	}
+	if res.Uncertainty == fit.Bootstrap && res.Samples != nil && len(res.Samples.Coefficients) > 1 {
+		if _, _, bsd, _, err := quant.AtomicFractionSamples(res.Samples.Coefficients, factors); err == nil {
+			sd = bsd
+		}
+	}
+	for i := range out {
+		out[i].Fraction = x[i]
+		if sd != nil && !math.IsNaN(sd[i]) {
+			out[i].SD = sd[i]
+		}
+	}
+	return out, nil
+}
+
+func atomicTable(at []atomicFraction) *render.Table {
+	t := &render.Table{Header: []string{"state", "compound", "atomic fraction"}, Right: []bool{false, false, true}}
+	for _, a := range at {
+		t.Rows = append(t.Rows, []string{a.State, a.Compound, fmt.Sprintf("%.3f ± %.3f", a.Fraction, a.SD)})
+	}
+	return t
+}
+
+func atomicSection(at []atomicFraction) render.Section {
+	return render.Section{Heading: "Atomic fractions", Blocks: []render.Block{
+		render.TableBlock(atomicTable(at)),
+		render.Paragraph("Matrix-corrected with N L of each reference's compound (TPP-2M IMFP at the window centre, equal backscattering); valid for a sample homogeneous within the analysed depth."),
+	}}
+}
+
+// overlayerResult is the --overlayer thickness.
+type overlayerResult struct {
+	Overlayer   string   `json:"overlayer_state"`
+	Substrate   string   `json:"substrate_state"`
+	ThicknessNM float64  `json:"thickness_nm"`
+	SDNM        float64  `json:"thickness_sd_nm"`
+	Ratio       float64  `json:"ratio"`
+	TakeOffDeg  float64  `json:"take_off_deg"`
+	Method      string   `json:"method"`
+	Warnings    []string `json:"-"`
+}
+
+func overlayerThickness(opts *fitOptions, unknown *lineshape.Spectrum, res *fit.Result) (*overlayerResult, error) {
+	ox, sub, ok := strings.Cut(opts.Overlayer, ":")
+	if !ok || ox == "" || sub == "" || ox == sub {
+		return nil, usageErrorf("--overlayer %q: want OXIDE_STATE:SUBSTRATE_STATE, e.g. oxide:metal", opts.Overlayer)
+	}
+	find := func(state string) (int, error) {
+		idx := -1
+		for i, c := range res.Components {
+			if c.State == state {
+				if idx >= 0 {
+					return 0, usageErrorf("--overlayer: two references have state %s", state)
+				}
+				idx = i
+			}
+		}
+		if idx < 0 {
+			return 0, usageErrorf("--overlayer: no reference has state %s", state)
+		}
+		return idx, nil
+	}
+	io_, err := find(ox)
+	if err != nil {
+		return nil, err
+	}
+	is, err := find(sub)
+	if err != nil {
+		return nil, err
+	}
+	co, cs := res.Components[io_], res.Components[is]
+	energy := (res.Window[0] + res.Window[1]) / 2
+	mo, err := compoundOf(opts, co)
+	if err != nil {
+		return nil, err
+	}
+	ms, err := compoundOf(opts, cs)
+	if err != nil {
+		return nil, err
+	}
+	el := co.Element
+	if el == "" {
+		el = cs.Element
+	}
+	no, err1 := quant.AtomicDensity(mo, el)
+	ns, err2 := quant.AtomicDensity(ms, el)
+	lo, err3 := quant.TPP2M(mo, energy)
+	ls, err4 := quant.TPP2M(ms, energy)
+	if err := errors.Join(err1, err2, err3, err4); err != nil {
+		return nil, badInputf("--overlayer: %v", err)
+	}
+	theta := 0.0
+	if opts.TakeOffSet {
+		theta = opts.TakeOff
+	} else if unknown.Meta.TakeOffDeg > 0 {
+		theta = unknown.Meta.TakeOffDeg
+	}
+	o := quant.Overlayer{NOverlayer: no, NSubstrate: ns, LambdaOverlayer: lo.IMFP, LambdaSubstrate: ls.IMFP,
+		TakeOffDeg: theta, SensitivityRatio: 1}
+	cf := quant.Coefficients{Overlayer: co.Coefficient, Substrate: cs.Coefficient,
+		OverlayerAtBound: co.AtBound, SubstrateAtBound: cs.AtBound}
+	if res.Uncertainty == fit.Bootstrap && res.Samples != nil && len(res.Samples.Coefficients) > 1 {
+		cf.VarOverlayer, cf.VarSubstrate, cf.Covariance = sampleCov(res.Samples.Coefficients, io_, is)
+	} else if cov := res.CoefficientCovariance(); cov != nil {
+		cf.VarOverlayer, cf.VarSubstrate, cf.Covariance = cov.At(io_, io_), cov.At(is, is), cov.At(io_, is)
+	}
+	t, err := o.ThicknessFromCoefficients(cf)
+	if err != nil {
+		var oe *quant.OverlayerError
+		if errors.As(err, &oe) {
+			return nil, badInput(err)
+		}
+		return nil, err
+	}
+	sd := t.SD
+	if math.IsNaN(sd) {
+		sd = 0
+	}
+	return &overlayerResult{Overlayer: ox, Substrate: sub, ThicknessNM: t.Thickness, SDNM: sd, Ratio: t.Ratio,
+		TakeOffDeg: t.TakeOff, Method: t.Method, Warnings: t.Warnings}, nil
+}
+
+// sampleCov returns the sample variances of columns a and b and their
+// covariance.
+func sampleCov(rows [][]float64, a, b int) (va, vb, cab float64) {
+	n := float64(len(rows))
+	var ma, mb float64
+	for _, r := range rows {
+		ma += r[a]
+		mb += r[b]
+	}
+	ma /= n
+	mb /= n
+	for _, r := range rows {
+		va += (r[a] - ma) * (r[a] - ma)
+		vb += (r[b] - mb) * (r[b] - mb)
+		cab += (r[a] - ma) * (r[b] - mb)
+	}
+	return va / (n - 1), vb / (n - 1), cab / (n - 1)
+}
+
+func overlayerSection(ov *overlayerResult) render.Section {
+	return render.Section{Heading: "Overlayer thickness", Blocks: []render.Block{
+		render.KeyValues([][2]string{
+			{"overlayer / substrate", ov.Overlayer + " on " + ov.Substrate},
+			{"thickness", fmt.Sprintf("%.3g ± %.2g nm", ov.ThicknessNM, ov.SDNM)},
+			{"coefficient ratio", fmt.Sprintf("%.4g", ov.Ratio)},
+			{"take-off angle", fmt.Sprintf("%.3g° from the surface", ov.TakeOffDeg)},
+			{"model", ov.Method},
+		}),
+		render.Warnings(ov.Warnings),
+	}}
 }

@@ -366,3 +366,28 @@ func sanitize(res *Result) {
 		fix(v)
 	}
 }
+
+// CoefficientCovariance returns the k x k covariance of the coefficients of
+// all components in component order (rows and columns of components at
+// their bound are zero), taken from Covariance, or nil if it is not known.
+func (r *Result) CoefficientCovariance() *mat.SymDense {
+	if r.Covariance == nil {
+		return nil
+	}
+	k := len(r.Components)
+	out := mat.NewSymDense(k, nil)
+	var idx []int // component of each "c:" parameter, in order
+	for i, c := range r.Components {
+		if !c.AtBound {
+			idx = append(idx, i)
+		}
+	}
+	for a, i := range idx {
+		for b, j := range idx {
+			if b >= a {
+				out.SetSym(i, j, r.Covariance.At(a, b))
+			}
+		}
+	}
+	return out
+}
