@@ -13,8 +13,12 @@
 // future upgrade entries) and each block from the block identifier to the
 // ordinate values. Text items are kept as written (a trailing CR removed);
 // reals the file gives as 1E37 ("not given") hold NotGiven, tested with
-// Given. Read followed by Write reproduces the items; only the minimum and
-// maximum ordinate lines are recomputed from the data.
+// Given. Read followed by Write reproduces every item; what changes is the
+// spelling, not the value: lines end in CRLF, numbers are printed in the
+// shortest form that reads back to the same float64 ("1.0E+37" becomes
+// "1E37", an integer written "3.0" becomes "3"), experiment and scan mode
+// are upper case, and the minimum and maximum ordinate lines are recomputed
+// from the data.
 //
 // # Grammar
 //
