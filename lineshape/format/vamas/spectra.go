@@ -88,7 +88,9 @@ func (f *File) AbscissaVariable(block int) int {
 //     block comment line "energy reference: X" says (FromSpectra writes it).
 //   - SputterTimeS comes from the first experimental variable whose label
 //     mentions "sputter" or "etch" (and not "depth" or "rate") with unit s,
-//     min or h (converted to s); other units leave it nil.
+//     min or h (converted to s), the unit taken from the label's end, as in
+//     "Etch Time (min)", when the units line does not name a time; other
+//     units leave it nil.
 //   - PixelX and PixelY (MAP and MAPDP) are the block's x and y coordinates
 //     made 0-based: ISO 14976 counts from 1, so 1 is subtracted, unless some
 //     block of the file has coordinate 0, in which case the file is taken to
@@ -259,6 +261,25 @@ func timeUnit(u string) (float64, bool) {
 	return 0, false
 }
 
+// labelUnit returns the unit a label carries at its end in parentheses or
+// brackets ("Etch Time (min)" gives "min"), or "".
+func labelUnit(label string) string {
+	l := strings.TrimSpace(label)
+	if l == "" {
+		return ""
+	}
+	closeCh := l[len(l)-1]
+	openCh := map[byte]byte{')': '(', ']': '['}[closeCh]
+	if openCh == 0 {
+		return ""
+	}
+	i := strings.LastIndexByte(l, openCh)
+	if i < 0 {
+		return ""
+	}
+	return l[i+1 : len(l)-1]
+}
+
 // isSputterTime reports whether an experimental variable label names a
 // sputter (etch) time.
 func isSputterTime(label string) bool {
@@ -311,7 +332,11 @@ func (f *File) fillMeta(m *lineshape.Meta, block, variable, ab int, binding bool
 			continue
 		}
 		if m.SputterTimeS == nil && isSputterTime(v.Label) {
-			if k, ok := timeUnit(v.Unit); ok {
+			k, ok := timeUnit(v.Unit)
+			if !ok {
+				k, ok = timeUnit(labelUnit(v.Label)) // "Etch Time (min)" with no units
+			}
+			if ok {
 				t := b.VariableValues[i] * k
 				m.SputterTimeS = &t
 			}

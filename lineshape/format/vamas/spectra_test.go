@@ -410,6 +410,11 @@ func TestLabelsAndUnits(t *testing.T) {
 			t.Errorf("timeUnit(%q) = %v, %v", c.unit, k, ok)
 		}
 	}
+	for label, want := range map[string]string{"Etch Time (min)": "min", "sputter time [s]": "s", "Etch Time": "", "(": "", "": ""} {
+		if got := labelUnit(label); got != want {
+			t.Errorf("labelUnit(%q) = %q, want %q", label, got, want)
+		}
+	}
 	for _, l := range []string{"E*N(E)", "EN(E)", "E x N(E)", "E·N(E) counts"} {
 		if !isTimesEnergy(l) {
 			t.Errorf("isTimesEnergy(%q) false", l)
