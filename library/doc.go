@@ -36,6 +36,15 @@
 // is reported by name by [Store.Entries] and [VerifyDir] and never stops
 // the rest of the library from working.
 //
+// A write that is interrupted leaves the library valid: an entry file is
+// either the old or the new one, and a temporary file may be left behind.
+// Writers write entry files first and the manifest last, so an interrupted
+// Add or Edit can leave an entry whose revision is above the manifest's;
+// VerifyDir reports both, and a repair removes the temporary file and
+// raises the revision. An interrupted Remove leaves no trace in the
+// manifest; the index check of verify finds the entry the index still
+// holds.
+//
 // # Revisions and the index
 //
 // Each write operation (Add, Edit, Remove, Import, a repair) raises the
@@ -43,6 +52,12 @@
 // log ([Store.ChangesSince]). Package index reads entries and keeps its own
 // files in [Store.IndexDir]; the command layer tells it what changed after
 // each write, and [VerifyOptions.CheckIndex] lets verify check it.
+//
+// # Queries
+//
+// [ParseFilter] reads a simple selection, space-separated field:value terms
+// that must all match (element:Ti state:nitride tag.lab:north), used by
+// export --query until the index's query language replaces it there.
 //
 // # Units
 //

@@ -240,12 +240,8 @@ func encodeEntry(e *Entry) ([]byte, error) {
 // not check the ID against the content; see checkEntry.
 func decodeEntry(b []byte) (*Entry, error) {
 	var f entryFile
-	dec := json.NewDecoder(strings.NewReader(string(b)))
-	if err := dec.Decode(&f); err != nil {
+	if err := json.Unmarshal(b, &f); err != nil {
 		return nil, fmt.Errorf("not valid JSON: %v", err)
-	}
-	if dec.More() {
-		return nil, errors.New("not valid JSON: data after the entry")
 	}
 	if f.Format != entryFormat {
 		return nil, fmt.Errorf("format %q, want %q", f.Format, entryFormat)
