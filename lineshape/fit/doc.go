@@ -106,18 +106,20 @@
 // freedom.
 //
 // Bootstrap (the default): residuals, centred and inflated by
-// sqrt(n / (n - L p)), are resampled in circular moving blocks of L
+// sqrt(n / (n - L p)) sqrt(f / f_L), are resampled in circular moving blocks of L
 // channels (Kuensch, Ann. Statist. 17 (1989) 1217), L = max(n^(1/3),
 // 2 lags + 1) with lags the correlated lags above, at most n/(2p); each
 // sample is added to the fitted model and refitted from scratch, shifts
-// included. The inflation restores the variance the fit removes from block
-// sums (about L p / n; for L = 1 it is the usual sqrt(n/(n - p))). When
+// included. The first factor restores the variance the fit removes from
+// block sums (about L p / n; for L = 1 it is the usual sqrt(n/(n - p))),
+// the second the correlation lost at block joins: f_L = 1 + 2 sum (1 - k/L)
+// rho_k is what blocks of L channels keep of f. When
 // the unknown is a direct spectrum of counts (Meta.Counts) the samples are
 // Poisson draws of the counts instead, converted like the unknown. SDs are
 // the sample SDs; 95 % intervals are the 2.5 % and 97.5 % percentiles
-// (Hyndman & Fan type 7). Sample b draws from a PCG generator seeded with
-// (Seed, b), so results do not depend on Workers. Options.Samples defaults
-// to 300.
+// (the (B+1)p-th order statistics, Hyndman & Fan type 6). Sample b draws
+// from a PCG generator seeded with (Seed, b), so results do not depend on
+// Workers. Options.Samples defaults to 300.
 //
 // A component whose coefficient is zero (at its bound) has fraction 0 and
 // a one-sided interval [0, U]: U is the 95 % percentile of its bootstrap

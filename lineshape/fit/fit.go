@@ -102,6 +102,8 @@ type Result struct {
 	Samples *Samples
 	// Uncertainty is the method the reported SDs and intervals come from.
 	Uncertainty Uncertainty
+
+	rho []float64 // residual autocorrelations summed in the correlation factor
 }
 
 // Fit fits unknown, which must cover the model's window, with the model's
@@ -246,7 +248,7 @@ func (m *Model) result(w *worker, y []float64, sol solution) (*Result, error) {
 	if qu.DOF > 0 && qu.NoiseSD > 0 {
 		qu.Chi2Reduced = rss / float64(qu.DOF) / (qu.NoiseSD * qu.NoiseSD)
 	}
-	qu.CorrelationFactor, qu.CorrelationLags = correlationFactor(cv.Residual, np)
+	qu.CorrelationFactor, qu.CorrelationLags, res.rho = correlationFactor(cv.Residual, np)
 	res.Quality = qu
 	if qu.DOF <= 0 {
 		return nil, inputErr(m.unknownLabel, "%d channels for %d parameters: no degrees of freedom left", n, np)
@@ -316,7 +318,7 @@ func highPassNoise(r []float64) float64 {
 // window are (I - H) times the noise, H the hat matrix, whose elements near
 // the diagonal are about p/n; so each short-lag autocorrelation of the
 // residual is biased by about -p/n, and p/n is added back.
-func correlationFactor(r []float64, p int) (float64, int) {
+func correlationFactor(r []float64, p int) (float64, int, []float64) {
 	n := len(r)
 	mean := 0.0
 	for _, v := range r {
@@ -328,11 +330,12 @@ func correlationFactor(r []float64, p int) (float64, int) {
 		c0 += (v - mean) * (v - mean)
 	}
 	if c0 == 0 {
-		return 1, 0
+		return 1, 0, nil
 	}
 	thr := 1.5 / math.Sqrt(float64(n))
 	bias := float64(p) / float64(n)
 	f, lags := 1.0, 0
+	var rhos []float64
 	for k := 1; k <= n/4; k++ {
 		ck := 0.0
 		for i := 0; i+k < n; i++ {
@@ -344,8 +347,9 @@ func correlationFactor(r []float64, p int) (float64, int) {
 		}
 		f += 2 * rho
 		lags = k
+		rhos = append(rhos, rho)
 	}
-	return f, lags
+	return f, lags, rhos
 }
 
 // sanitize replaces values JSON cannot carry (NaN, Inf) by 0.

@@ -211,6 +211,23 @@ func blockInflation(n, L, p int) float64 {
 	return math.Sqrt(float64(n) / float64(n-L*p))
 }
 
+// bartlett returns sqrt(f / f_L): f = 1 + 2 sum rho_k is the long-run
+// variance factor of the residual, f_L = 1 + 2 sum (1 - k/L) rho_k the part
+// of it that resampled blocks of L channels keep (correlation across a
+// block join is lost; Kuensch 1989). Multiplying the resampled residuals by
+// it gives the block bootstrap the full long-run variance.
+func bartlett(rho []float64, L int) float64 {
+	f, fl := 1.0, 1.0
+	for i, r := range rho {
+		k := i + 1
+		f += 2 * r
+		if k < L {
+			fl += 2 * (1 - float64(k)/float64(L)) * r
+		}
+	}
+	return math.Sqrt(f / fl)
+}
+
 // bootstrap fills Samples, SDs and percentile intervals of res.
 func (m *Model) bootstrap(ctx context.Context, res *Result, u *lineshape.Spectrum) error {
 	k := len(m.refs)
@@ -239,7 +256,7 @@ func (m *Model) bootstrap(ctx context.Context, res *Result, u *lineshape.Spectru
 		mean /= float64(n)
 		p := res.Quality.Points - res.Quality.DOF
 		smp.BlockLength = blockLength(n, res.Quality.CorrelationLags, p)
-		infl := blockInflation(n, smp.BlockLength, p)
+		infl := blockInflation(n, smp.BlockLength, p) * bartlett(res.rho, smp.BlockLength)
 		for j, r := range res.Curves.Residual {
 			resid[j] = (r - mean) * infl
 		}
@@ -391,10 +408,15 @@ func sd(v []float64) float64 {
 	return math.Sqrt(s / float64(len(v)-1))
 }
 
-// quantile returns the p quantile of sorted v by linear interpolation
-// between order statistics (Hyndman & Fan 1996, type 7).
+// quantile returns the p quantile of sorted v: the (B+1)p-th order
+// statistic, interpolated (Hyndman & Fan 1996, type 6), the choice of
+// Davison & Hinkley (Bootstrap Methods and their Application, 1997,
+// sec. 5.2) for percentile intervals from B samples.
 func quantile(v []float64, p float64) float64 {
-	h := p * float64(len(v)-1)
+	h := p*float64(len(v)+1) - 1 // 0-based position
+	if h <= 0 {
+		return v[0]
+	}
 	i := int(math.Floor(h))
 	if i >= len(v)-1 {
 		return v[len(v)-1]
