@@ -288,3 +288,30 @@ func TestVerifyRebuildsManifest(t *testing.T) {
 		t.Errorf("%d entries", n)
 	}
 }
+
+func TestVerifyReportsHandEdits(t *testing.T) {
+	s := newLib(t)
+	added := mustAdd(t, s, tiEntry("a", "metal", 383, 1), tiEntry("b", "oxide", 388, 2))
+	for i, edit := range []struct{ from, to string }{
+		{`"state": "metal"`, `"state": "plasma"`},
+		{`"state": "oxide"`, `"stat": "oxide", "state": "oxide"`},
+	} {
+		p := filepath.Join(s.Dir(), "refs", added[i].ID+".json")
+		b, _ := os.ReadFile(p)
+		if !bytes.Contains(b, []byte(edit.from)) {
+			t.Fatalf("%s lacks %s", p, edit.from)
+		}
+		os.WriteFile(p, bytes.Replace(b, []byte(edit.from), []byte(edit.to), 1), 0o644)
+	}
+	rep, err := s.Verify(VerifyOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	msgs := fmt.Sprint(rep.Problems)
+	if problemCodes(rep) != ProblemSchema+","+ProblemSchema || !strings.Contains(msgs, "plasma") || !strings.Contains(msgs, `"stat"`) {
+		t.Errorf("hand edits: %+v", rep.Problems)
+	}
+	if n := countEntries(t, s); n != 2 {
+		t.Errorf("hand-edited entries should stay readable: %d", n)
+	}
+}

@@ -1,6 +1,8 @@
 package library
 
 import (
+	"bytes"
+	"encoding/json"
 	"errors"
 	"fmt"
 	"io/fs"
@@ -192,6 +194,13 @@ func verifyDir(dir string, opts VerifyOptions, s *Store) (*Report, error) {
 				add(rel(p), code, err.Error(), false)
 				continue
 			}
+			// Usable, but fields this version does not know (a misspelt
+			// hand edit) or labels that no longer validate are reported.
+			if err := strictDecode(b); err != nil {
+				add(rel(p), ProblemSchema, err.Error()+"; the field is ignored: fix the file by hand or with statemix library edit", false)
+			} else if err := normalize(e.Clone()); err != nil {
+				add(rel(p), ProblemSchema, err.Error()+"; fix it with statemix library edit", false)
+			}
 			if e.Revision > maxRev {
 				maxRev = e.Revision
 			}
@@ -266,4 +275,16 @@ func verifyDir(dir string, opts VerifyOptions, s *Store) (*Report, error) {
 		rep.Problems = append(rep.Problems, ps...)
 	}
 	return rep, nil
+}
+
+// strictDecode decodes an entry file refusing fields the entry type does
+// not have.
+func strictDecode(b []byte) error {
+	dec := json.NewDecoder(bytes.NewReader(b))
+	dec.DisallowUnknownFields()
+	var f entryFile
+	if err := dec.Decode(&f); err != nil {
+		return fmt.Errorf("schema: %v", err)
+	}
+	return nil
 }
