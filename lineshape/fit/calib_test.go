@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"strings"
 	"testing"
 	"time"
 )
@@ -40,7 +41,7 @@ func TestCalibration(t *testing.T) {
 			name := fmt.Sprintf("noise=%s/method=%s", map[bool]string{false: "white", true: "runmean5"}[smooth], method)
 			t.Run(name, func(t *testing.T) {
 				t0 := time.Now()
-				var hits, shiftHits, n int
+				var hits, shiftHits, n, structWarn int
 				var sumSD, sumErr2, sumErr float64
 				opts := Options{MaxShift: 1.5, Uncertainty: method, Samples: B, Seed: 11}
 				for r := 0; r < R; r++ {
@@ -55,6 +56,11 @@ func TestCalibration(t *testing.T) {
 					if err != nil {
 						t.Fatal(err)
 					}
+					for _, w := range res.Warnings {
+						if strings.Contains(w, "structure") {
+							structWarn++
+						}
+					}
 					c := res.Components[0]
 					n++
 					if c.FractionCI95[0] <= truth[0] && truth[0] <= c.FractionCI95[1] {
@@ -68,8 +74,12 @@ func TestCalibration(t *testing.T) {
 					sumErr2 += (c.Fraction - truth[0]) * (c.Fraction - truth[0])
 				}
 				cov := float64(hits) / float64(n)
-				t.Logf("%s: coverage of fraction %.1f %% (%d/%d), shift +/-1.96 sd %.1f %%, mean reported sd %.5f vs rms error %.5f (bias %.5f), %v",
-					name, 100*cov, hits, n, 100*float64(shiftHits)/float64(n), sumSD/float64(n), math.Sqrt(sumErr2/float64(n)), sumErr/float64(n), time.Since(t0).Round(time.Millisecond))
+				t.Logf("%s: coverage of fraction %.1f %% (%d/%d), shift +/-1.96 sd %.1f %%, mean reported sd %.5f vs rms error %.5f (bias %.5f), structure warnings %d, %v",
+					name, 100*cov, hits, n, 100*float64(shiftHits)/float64(n), sumSD/float64(n), math.Sqrt(sumErr2/float64(n)), sumErr/float64(n), structWarn, time.Since(t0).Round(time.Millisecond))
+				// A good model must rarely be reported as misfit.
+				if structWarn > n/20 {
+					t.Errorf("%d of %d good fits warn of structure in the residual", structWarn, n)
+				}
 				if cov < 0.90 || cov > 0.99 {
 					t.Errorf("coverage %.1f %%, want within [90 %%, 99 %%]", 100*cov)
 				}

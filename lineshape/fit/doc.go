@@ -89,9 +89,14 @@
 //     rho_k summed over the lags k = 1, 2, ... while rho_k stays above
 //     1.5/sqrt(n), each corrected for the -p/n bias that fitting p smooth
 //     parameters gives; n/f is the effective number of independent channels.
-//   - A residual correlated over at least max(8, n/15) channels with a
-//     reduced chi-square above 1.5 warns of structure left in the
-//     residual: the references may not span the unknown.
+//   - Structure left in the residual: the window is cut into 8 segments;
+//     if the residual variance of one exceeds the median segment variance
+//     by more than stationary noise with (n/8)/f effective channels per
+//     segment would give (1 % false alarms, at least a factor 4), Fit warns that the references may not span the
+//     unknown and names the segment. Stationary noise, smoothed or not,
+//     passes; a missing state leaves its residual where its peaks are.
+//     (A reduced chi-square test alone cannot tell misfit from smoothed
+//     noise.)
 //
 // # Uncertainty
 //

@@ -4,8 +4,10 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"sort"
 
 	"gonum.org/v1/gonum/mat"
+	"gonum.org/v1/gonum/stat/distuv"
 
 	"statemix/lineshape"
 )
@@ -263,8 +265,8 @@ func (m *Model) result(w *worker, y []float64, sol solution) (*Result, error) {
 			}
 		}
 	}
-	if long := max(8, n/15); qu.CorrelationLags >= long && qu.Chi2Reduced > 1.5 {
-		res.Warnings = append(res.Warnings, fmt.Sprintf("structure left in the residual (correlated over %d channels, reduced chi-square %.3g): the references may not span the unknown", qu.CorrelationLags, qu.Chi2Reduced))
+	if lo, hi, ratio, thr := structure(cv.Energy, cv.Residual, qu.CorrelationFactor); ratio > thr {
+		res.Warnings = append(res.Warnings, fmt.Sprintf("structure left in the residual: its variance in %.5g-%.5g eV is %.1f times the median over the window (reduced chi-square %.3g): the references may not span the unknown", lo, hi, ratio, qu.Chi2Reduced))
 	}
 	return res, nil
 }
@@ -294,6 +296,51 @@ func (m *Model) shiftParams(comps []Component) int {
 		}
 	}
 	return n
+}
+
+// structure splits the window into 8 segments (fewer for short windows, at
+// least 10 channels each) and returns the segment with the largest residual
+// variance, its ratio to the median segment variance, and the threshold
+// above which that ratio reports structure. Noise that is stationary, even
+// if correlated by smoothing, gives similar variances; a state the
+// references miss leaves its residual where its peaks are.
+//
+// With nu = (n / segments) / f effective channels per segment (f the
+// correlation factor), a segment variance is about sigma^2 chi2_nu / nu.
+// The threshold is 1.2 times the ratio of the chi2_nu quantile at
+// 1 - 0.01/segments (the largest of the segments, 1 % false alarms) to its
+// median, and at least 4.
+func structure(e, r []float64, f float64) (lo, hi, ratio, thr float64) {
+	n := len(r)
+	segs := min(8, n/10)
+	if segs < 3 {
+		return 0, 0, 0, math.Inf(1)
+	}
+	v := make([]float64, segs)
+	best := 0
+	for s := 0; s < segs; s++ {
+		a, b := s*n/segs, (s+1)*n/segs
+		for _, x := range r[a:b] {
+			v[s] += x * x
+		}
+		v[s] /= float64(b - a)
+		if v[s] > v[best] {
+			best = s
+		}
+	}
+	sorted := append([]float64(nil), v...)
+	sort.Float64s(sorted)
+	med := sorted[segs/2]
+	if segs%2 == 0 {
+		med = (sorted[segs/2-1] + sorted[segs/2]) / 2
+	}
+	if !(med > 0) {
+		return 0, 0, 0, math.Inf(1)
+	}
+	nu := math.Max(1, float64(n)/float64(segs)/math.Max(f, 1))
+	cs := distuv.ChiSquared{K: nu}
+	thr = math.Max(4, 1.2*cs.Quantile(1-0.01/float64(segs))/cs.Quantile(0.5))
+	return e[best*n/segs], e[(best+1)*n/segs-1], v[best] / med, thr
 }
 
 // highPassNoise estimates the noise standard deviation from second

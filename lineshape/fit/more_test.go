@@ -360,3 +360,48 @@ func BenchmarkFit(b *testing.B) {
 		}
 	})
 }
+
+// TestWarnings: a missing state leaves structure in the residual, a shift
+// beyond the bound is reported at the bound, normalisation warns.
+func TestWarnings(t *testing.T) {
+	all := []state{stMetal, stOxide, stNitride}
+	refs := refsFor(all, 300, 500, 0.5)
+	mx := mixture{states: all, coef: []float64{0.4, 0.3, 0.3}, shift: 2.5, extra: 1}
+	_, d, dir := mx.clean(320, 470, 0.5)
+	y, _ := noisy(d, dir, 50, false, rand.New(rand.NewPCG(4, 4)))
+	u := unknownSpectrum(320, 0.5, y)
+	cases := []struct {
+		name string
+		refs []Reference
+		opts Options
+		want string
+	}{
+		{"missing-state", refs[:2], Options{Uncertainty: Covariance}, "structure left in the residual"},
+		{"shift-at-bound", refs, Options{Uncertainty: Covariance, MaxShift: 1}, "at its bound"},
+		{"normalised", refs, Options{Uncertainty: Covariance, Normalize: lineshape.NormPeakToPeak}, "normalised"},
+	}
+	for _, tc := range cases {
+		t.Run(tc.name, func(t *testing.T) {
+			m, err := Prepare(u, tc.refs, tc.opts)
+			if err != nil {
+				t.Fatal(err)
+			}
+			res, err := m.Fit(context.Background(), u)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if w := strings.Join(res.Warnings, "; "); !strings.Contains(w, tc.want) {
+				t.Errorf("warnings %q lack %q (chi2 %.3g, lags %d)", w, tc.want, res.Quality.Chi2Reduced, res.Quality.CorrelationLags)
+			}
+		})
+	}
+	// A good fit of white noise does not warn about structure.
+	m, _ := Prepare(u, refs, Options{Uncertainty: Covariance})
+	res, err := m.Fit(context.Background(), u)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if w := strings.Join(res.Warnings, "; "); strings.Contains(w, "structure") || strings.Contains(w, "bound") {
+		t.Errorf("good fit warns: %q", w)
+	}
+}
