@@ -3,6 +3,7 @@ package library
 import (
 	"math"
 	"math/rand/v2"
+	"sync/atomic"
 	"testing"
 	"time"
 
@@ -38,8 +39,8 @@ func tiEntry(name, state string, e0 float64, seed uint64) *Entry {
 // fixedClock is a clock for deterministic timestamps.
 func fixedClock() func() time.Time {
 	t0 := time.Date(2026, 1, 2, 3, 4, 5, 678000000, time.UTC)
-	n := 0
-	return func() time.Time { n++; return t0.Add(time.Duration(n) * time.Second) }
+	var n atomic.Int64
+	return func() time.Time { return t0.Add(time.Duration(n.Add(1)) * time.Second) }
 }
 
 // newLib creates a library in a fresh temporary folder.

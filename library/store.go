@@ -65,7 +65,8 @@ type Store struct {
 	// LockTimeout is how long a write waits for the writer lock. If it is
 	// 0, it defaults to DefaultLockTimeout.
 	LockTimeout time.Duration
-	// Now is the clock used for timestamps. If it is nil, time.Now is used.
+	// Now is the clock used for timestamps; it must be safe for concurrent
+	// use. If it is nil, time.Now is used.
 	Now func() time.Time
 
 	dir string

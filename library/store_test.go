@@ -3,11 +3,13 @@ package library
 import (
 	"encoding/json"
 	"errors"
+	"fmt"
 	"math"
 	"os"
 	"path/filepath"
 	"reflect"
 	"strings"
+	"sync"
 	"testing"
 	"time"
 
@@ -430,5 +432,50 @@ func TestChungJenkinsCheck(t *testing.T) {
 		Spectrum: synth(1560, 0.5, 201, 1612, 3, 100, 0.2, 2)})
 	if err != nil || !hasCode(ws, WarnTransitionEnergy) || !strings.Contains(ws[0].Message, "estimate 1387") {
 		t.Errorf("Si spectrum labelled Al: warnings %v %v, want %s", ws, err, WarnTransitionEnergy)
+	}
+}
+
+// TestConcurrentGoroutines shares one Store between goroutines that add
+// and list, and gives another goroutine its own Store (run with -race).
+func TestConcurrentGoroutines(t *testing.T) {
+	s := newLib(t)
+	other, err := Open(s.Dir())
+	if err != nil {
+		t.Fatal(err)
+	}
+	var wg sync.WaitGroup
+	errs := make(chan error, 16)
+	for i := 0; i < 6; i++ {
+		st := s
+		if i%2 == 1 {
+			st = other
+		}
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			if _, _, err := st.Add(tiEntry(fmt.Sprintf("g%d", i), "metal", 370+float64(i), uint64(50+i))); err != nil {
+				errs <- err
+			}
+		}()
+	}
+	for i := 0; i < 2; i++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for j := 0; j < 10; j++ {
+				if _, es := s.Entries(); len(es) > 0 {
+					errs <- es[0]
+				}
+				_ = s.Revision()
+			}
+		}()
+	}
+	wg.Wait()
+	close(errs)
+	for err := range errs {
+		t.Error(err)
+	}
+	if n := countEntries(t, s); n != 6 || s.Revision() != 6 {
+		t.Errorf("%d entries at revision %d, want 6 at 6", n, s.Revision())
 	}
 }
