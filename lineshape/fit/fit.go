@@ -157,7 +157,14 @@ func (m *Model) values(unknown *lineshape.Spectrum) ([]float64, error) {
 		return nil, inputErr(label, "derivative spectrum given to a model prepared for direct spectra")
 	}
 	s := unknown
-	if m.lockIn > 0 && s.Mode == lineshape.Direct {
+	k := m.lockIn
+	if k == 0 {
+		k = m.modulation
+	}
+	if m.mode == lineshape.Derivative && s.Mode == lineshape.Direct && k == 0 {
+		return nil, inputErr(label, "direct spectrum given to a model prepared for derivative spectra of unknown modulation")
+	}
+	if m.mode == lineshape.Derivative && s.Mode == lineshape.Direct {
 		if !s.Axis.Uniform() {
 			n := s.Len()
 			r, err := s.Resample(s.Axis.Lo(), (s.Axis.Hi()-s.Axis.Lo())/float64(n-1), n)
@@ -166,9 +173,9 @@ func (m *Model) values(unknown *lineshape.Spectrum) ([]float64, error) {
 			}
 			s = r
 		}
-		d, err := s.LockIn(m.lockIn)
+		d, err := s.LockIn(k)
 		if err != nil {
-			return nil, inputErr(label, "lock-in emulation with %.3g eV modulation: %v", m.lockIn, err)
+			return nil, inputErr(label, "lock-in emulation with %.3g eV modulation: %v", k, err)
 		}
 		s = d
 	}
