@@ -53,9 +53,11 @@ func BenchmarkSolver(b *testing.B) {
 					b.Fatal(err)
 				}
 				b.ReportAllocs()
+				c := startCPU(b)
 				for b.Loop() {
 					s.Solve(&r, a, rhs, nil)
 				}
+				c.stop()
 			})
 		}
 	}
@@ -82,10 +84,12 @@ func BenchmarkBatch(b *testing.B) {
 				var r Result
 				b.ReportAllocs()
 				i := 0
+				c := startCPU(b)
 				for b.Loop() {
 					bt.Solve(&r, bs[i&255])
 					i++
 				}
+				c.stop()
 			})
 		}
 	}
@@ -115,6 +119,7 @@ func BenchmarkBankScan(b *testing.B) {
 		var r Result
 		b.ReportAllocs()
 		i := 0
+		c := startCPU(b)
 		for b.Loop() {
 			rhs := bs[i&63]
 			i++
@@ -123,5 +128,6 @@ func BenchmarkBankScan(b *testing.B) {
 				bk.SolveNormal(&r, k, atb, btb)
 			}
 		}
+		c.stop()
 	})
 }
