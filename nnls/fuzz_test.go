@@ -16,7 +16,7 @@ import (
 func FuzzSolve(f *testing.F) {
 	f.Add([]byte{3, 2, 0, 1, 2, 3, 4, 5, 6, 7, 8, 9})
 	f.Add([]byte{4, 3, 1, 250, 3, 7, 7, 2, 9, 9, 1, 0, 0, 3, 3, 5, 5, 200, 1, 100})
-	f.Add([]byte{2, 2, 0, 1, 1, 1, 1, 5, 5})   // identical columns
+	f.Add([]byte{2, 2, 0, 1, 1, 1, 1, 5, 5})    // identical columns
 	f.Add([]byte{5, 2, 2, 0, 0, 0, 0, 0, 1, 2}) // zero column, free
 	f.Add([]byte{1, 1, 0, 0, 0})
 	f.Fuzz(func(t *testing.T, data []byte) {
