@@ -28,7 +28,11 @@ func TestMain(m *testing.M) {
 		}
 		os.Exit(0)
 	}
-	os.Exit(m.Run())
+	code := m.Run()
+	if benchLib.dir != "" {
+		os.RemoveAll(benchLib.dir)
+	}
+	os.Exit(code)
 }
 
 func child(role, dir, ns string) error {

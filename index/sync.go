@@ -12,6 +12,8 @@ import (
 	"time"
 
 	"github.com/blevesearch/bleve/v2"
+	"github.com/blevesearch/bleve/v2/index/scorch"
+	"github.com/blevesearch/bleve/v2/index/scorch/mergeplan"
 
 	"statemix/library"
 )
@@ -183,7 +185,61 @@ func (x *Index) apply(ctx context.Context, docs []*library.Entry, dels []string,
 			testHookAfterBatch(done, total)
 		}
 	}
+	return x.compact(ctx)
+}
+
+// maxSegments is the number of on-disk segments above which a writer
+// merges before it closes. Every update makes a segment and a short writer
+// session (one library add) closes before bleve's background merger gets to
+// them, so without this a library grown by thousands of single adds would
+// have thousands of segments and slow queries.
+const maxSegments = 12
+
+// compact runs one pass of scorch's default tiered merge plan when the
+// index has more than maxSegments segments, and waits until the merged
+// root is on disk (a batch waits for persistence), so the work is not lost
+// at Close.
+func (x *Index) compact(ctx context.Context) error {
+	sc, n := x.scorch()
+	if sc == nil || n <= maxSegments {
+		return nil
+	}
+	opts := mergeplan.DefaultMergePlanOptions
+	if err := sc.ForceMerge(ctx, &opts); err != nil {
+		return fmt.Errorf("index %s: merge segments: %w", x.path, err)
+	}
+	st, err := x.State()
+	if err != nil {
+		return err
+	}
+	b := x.bi.NewBatch()
+	b.SetInternal([]byte(stateKey), st.encode())
+	if err := x.bi.Batch(b); err != nil {
+		return fmt.Errorf("index %s: %w", x.path, err)
+	}
 	return nil
+}
+
+// scorch returns the scorch index under x and its number of on-disk
+// segments (nil, 0 if it is not scorch).
+func (x *Index) scorch() (*scorch.Scorch, int) {
+	adv, err := x.bi.Advanced()
+	if err != nil {
+		return nil, 0
+	}
+	sc, ok := adv.(*scorch.Scorch)
+	if !ok {
+		return nil, 0
+	}
+	n, _ := sc.StatsMap()["TotFileSegmentsAtRoot"].(uint64)
+	return sc, int(n)
+}
+
+// Segments returns the number of on-disk segments of the index (for
+// diagnostics and tests).
+func (x *Index) Segments() int {
+	_, n := x.scorch()
+	return n
 }
 
 func (x *Index) mustWrite(op string) {
