@@ -145,6 +145,7 @@ func TestFitHumanTable(t *testing.T) {
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
+	t.Logf("stdout:\n%s\nstderr:\n%s", out, errs)
 	for _, want := range []string{"state", "fraction", "95 % interval", "shift (eV)", "metal", "oxide", "reduced chi-square", "bootstrap"} {
 		if !strings.Contains(out, want) {
 			t.Errorf("output lacks %q:\n%s", want, out)

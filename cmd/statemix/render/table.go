@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"path/filepath"
 	"strings"
 	"unicode/utf8"
 
@@ -76,7 +77,9 @@ func FitTable(res *fit.Result) *Table {
 		Right: []bool{false, false, true, true, true}}
 	for _, c := range res.Components {
 		ref := c.Name
-		if c.Ref != "" && c.Ref != c.Name {
+		if strings.HasPrefix(c.Ref, "file:") {
+			ref = filepath.Base(strings.TrimPrefix(c.Ref, "file:"))
+		} else if c.Ref != "" && c.Ref != c.Name {
 			if ref != "" {
 				ref += " "
 			}
@@ -88,9 +91,9 @@ func FitTable(res *fit.Result) *Table {
 			frac = "0 (at bound)"
 			ci = fmt.Sprintf("< %.3f", c.FractionCI95[1])
 		}
-		shift := fmt.Sprintf("%+.2f", c.Shift)
+		shift := fmt.Sprintf("%+.3f", c.Shift)
 		if c.ShiftSD > 0 {
-			shift += fmt.Sprintf(" ± %.2f", c.ShiftSD)
+			shift += fmt.Sprintf(" ± %.3f", c.ShiftSD)
 		}
 		if c.ShiftAtBound {
 			shift += " (bound)"
