@@ -22,13 +22,75 @@ package main
 // status.
 
 import (
+	"encoding/json"
 	"errors"
+	"fmt"
+	"path/filepath"
 
+	"statemix/library"
 	"statemix/lineshape"
 	"statemix/lineshape/fit"
 )
 
-// saveRun archives the measurement and its fit in the library.
+// saveRun archives the measurement and its fit in the library as a
+// "measurement" entry (runs/<id>.json) and brings the index up to date, so
+// search --like finds it later with what it was fitted with. The name is
+// "<file> block <N> <UTC time>"; saving the same spectrum with the same fit
+// again returns the entry already there.
 func saveRun(app *App, unknown *lineshape.Spectrum, res *fit.Result, opts *fitOptions) (string, error) {
-	return "", errors.New("not yet available in this build")
+	store, err := app.openLibrary(true)
+	if err != nil {
+		return "", err
+	}
+	doc, err := json.Marshal(opts.doc)
+	if err != nil {
+		return "", fmt.Errorf("encode fit result: %w", err)
+	}
+	block := max(opts.Block, 1)
+	now := app.Now().UTC()
+	e := &library.Entry{
+		Kind:        library.KindMeasurement,
+		Name:        fmt.Sprintf("%s block %d %s", filepath.Base(opts.File), block, now.Format("2006-01-02 15:04:05")),
+		Element:     commonElement(res),
+		Spectrum:    unknown,
+		Fit:         doc,
+		Acquisition: library.AcquisitionFromMeta(unknown.Meta),
+		Provenance: library.Provenance{
+			SourceFile:   opts.File,
+			SourceSHA256: opts.inputSHA256,
+			Block:        block - 1,
+			BlockID:      unknown.Meta.BlockID,
+			ImportedAt:   now,
+		},
+	}
+	if opts.Modulation > 0 && e.Acquisition.ModulationEV == 0 {
+		e.Acquisition.ModulationEV = opts.Modulation
+	}
+	added, _, err := store.Add(e)
+	var exists *library.ExistsError
+	if errors.As(err, &exists) {
+		app.Infof("statemix: fit: --save: this measurement and fit are already archived as %s\n", exists.ID)
+		return exists.ID, nil
+	}
+	if err != nil {
+		return "", libraryError(err)
+	}
+	app.afterLibraryWrite(store)
+	return added[0].ID, nil
+}
+
+// commonElement returns the element all fitted components share, or "".
+func commonElement(res *fit.Result) string {
+	el := ""
+	for _, c := range res.Components {
+		switch {
+		case c.Element == "":
+			return ""
+		case el == "":
+			el = c.Element
+		case c.Element != el:
+			return ""
+		}
+	}
+	return el
 }

@@ -203,3 +203,81 @@ func TestSearchLike(t *testing.T) {
 		t.Errorf("--block without --like: exit %d", code)
 	}
 }
+
+// TestFitSuggestAndSave runs fit --suggest on a two-state Ti mixture with
+// four Ti states in the library (without --element: fit.go then uses every
+// reference of the element, not the suggestion), saves the run, and finds it again with
+// search: by kind, by what it was fitted with, and by similarity.
+func TestFitSuggestAndSave(t *testing.T) {
+	dir := filepath.Join(t.TempDir(), "lib")
+	st, err := library.Create(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	shapes := map[string][][3]float64{
+		"metal":   {{387, 1, 2.5}, {418, 1.4, 2.2}},
+		"oxide":   {{383, 1, 3.5}, {413, 1.5, 3}, {405, 0.5, 2.5}},
+		"nitride": {{385, 1.2, 3}, {416, 1.2, 2.6}, {395, 0.4, 2}},
+		"carbide": {{386, 1, 2.8}, {417, 1.3, 2.4}, {426, 0.35, 2}},
+	}
+	var es []*library.Entry
+	for _, s := range []string{"metal", "oxide", "nitride", "carbide"} {
+		es = append(es, &library.Entry{Kind: library.KindReference, Name: "Ti " + s, Element: "Ti",
+			Transition: "LMM", State: s, Spectrum: gaussDeriv(340, 460, 0.5, shapes[s], 0, 1)})
+	}
+	if _, _, err := st.Add(es...); err != nil {
+		t.Fatal(err)
+	}
+	m := gaussDeriv(350, 450, 0.25, shapes["metal"], 0.4, 0.6)
+	o := gaussDeriv(350, 450, 0.25, shapes["oxide"], 0.4, 0.4)
+	rng := rand.New(rand.NewPCG(8, 9))
+	var b strings.Builder
+	for i := range m.Y {
+		fmt.Fprintf(&b, "%.4f\t%.6g\n", m.Energy(i), m.Y[i]+o.Y[i]+0.01*rng.NormFloat64())
+	}
+	path := filepath.Join(t.TempDir(), "mix.txt")
+	if err := os.WriteFile(path, []byte(b.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	code, out, errs := runApp(t, nil, "--library", dir, "--json", "fit", path, "--suggest",
+		"--uncertainty", "covariance", "--save")
+	if code != 0 {
+		t.Fatalf("fit --suggest --save: exit %d\n%s", code, errs)
+	}
+	var doc struct {
+		Components []struct {
+			State    string  `json:"state"`
+			Fraction float64 `json:"fraction"`
+		} `json:"components"`
+		Saved string `json:"saved"`
+	}
+	if err := json.Unmarshal([]byte(out), &doc); err != nil {
+		t.Fatalf("%v\n%s", err, out)
+	}
+	var states []string
+	for _, c := range doc.Components {
+		if c.Fraction > 0 {
+			states = append(states, c.State)
+		}
+	}
+	sort.Strings(states)
+	if !slices.Equal(states, []string{"metal", "oxide"}) {
+		t.Errorf("suggested fit has states %v, want [metal oxide]\n%s", states, errs)
+	}
+	if !strings.Contains(errs, "lowest BIC") || !strings.Contains(errs, "subsets fitted") {
+		t.Errorf("stderr does not explain the choice:\n%s", errs)
+	}
+	if doc.Saved == "" {
+		t.Fatal("no saved id")
+	}
+	code, out, _ = runApp(t, nil, "--library", dir, "--json", "search", "+kind:measurement +fit_states:oxide")
+	sd := decodeSearch(t, out)
+	if code != 0 || len(sd.Hits) != 1 || sd.Hits[0].Ref != doc.Saved || sd.Hits[0].Kind != "measurement" {
+		t.Errorf("saved run by query: exit %d %+v", code, sd.Hits)
+	}
+	code, out, _ = runApp(t, nil, "--library", dir, "--json", "search", "--like", path, "kind:measurement")
+	sd = decodeSearch(t, out)
+	if code != 0 || len(sd.Hits) == 0 || sd.Hits[0].Ref != doc.Saved || *sd.Hits[0].Similarity < 0.999 || math.Abs(*sd.Hits[0].ShiftEV) > 0.05 {
+		t.Errorf("saved run by similarity: exit %d %+v", code, sd.Hits)
+	}
+}
