@@ -1,20 +1,484 @@
 package main
 
 import (
-	"errors"
+	"encoding/csv"
+	"encoding/json"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
 
 	"github.com/spf13/cobra"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+
+	"statemix/cmd/statemix/render"
+	"statemix/lineshape/fit"
+	"statemix/lineshape/series"
 )
 
-// newProfileCmd is a placeholder until the profile command lands; its owner
-// replaces this file.
+// registerSeriesFitFlags registers on cmd the model flags of statemix fit
+// (same names, meanings and defaults as in fit.go) for the commands that
+// fit many spectra with one model. fit.go registers its flags inline, so
+// profile and map share this helper; parsing and reference gathering are
+// fit.go's own parseFitFlags and gatherReferences. uncertainty adds
+// --uncertainty (with the given default), --samples and --seed.
+func registerSeriesFitFlags(app *App, cmd *cobra.Command, opts *fitOptions, uncertainty string) {
+	f := cmd.Flags()
+	f.StringSliceVar(&opts.Refs, "refs", nil, "library references by id, id prefix or name, comma-separated (`REF,REF,...`)")
+	f.StringArrayVar(&opts.RefFiles, "ref-file", nil, "a reference spectrum from `FILE[:state]` (repeatable)")
+	f.IntVar(&opts.Suggest, "suggest", 0, "add the `K` library references most like the first spectrum (default 4 when given without a value)")
+	f.Lookup("suggest").NoOptDefVal = "4"
+	f.StringVar(&opts.Element, "element", "", "use every library reference of element `EL` (with --refs: check they are of EL)")
+	f.Float64Var(&opts.Modulation, "modulation", 0, "peak-to-peak modulation in `EV` for lock-in emulation (default the recorded one)")
+	f.StringVar(&opts.Window, "window", "", "fit window `LO:HI` in eV (default the overlap of spectra and references less the maximum shift)")
+	f.StringVar(&opts.Shift, "shift", "common", "energy shifts: none, common or each")
+	f.Float64Var(&opts.MaxShift, "max-shift", 3, "largest shift in `EV`")
+	f.IntVar(&opts.Background, "background", 1, "degree `DEG` of the polynomial background (-1 for none)")
+	f.StringVar(&opts.Normalize, "normalize", "none", "scale references first: none, peak-to-peak or area (changes what a fraction means)")
+	opts.Uncertainty, opts.Samples, opts.Seed = "covariance", 300, 1
+	if uncertainty != "" {
+		f.StringVar(&opts.Uncertainty, "uncertainty", uncertainty, "uncertainty method: covariance or bootstrap")
+		f.IntVar(&opts.Samples, "samples", 300, "bootstrap samples `N` per spectrum")
+		f.Uint64Var(&opts.Seed, "seed", 1, "bootstrap seed `N` (same seed, same result)")
+	}
+	enum := func(name string, vals ...string) {
+		_ = cmd.RegisterFlagCompletionFunc(name, cobra.FixedCompletions(vals, cobra.ShellCompDirectiveNoFileComp))
+	}
+	enum("shift", "none", "common", "each")
+	enum("normalize", "none", "peak-to-peak", "area")
+	if uncertainty != "" {
+		enum("uncertainty", "covariance", "bootstrap")
+	}
+	_ = cmd.RegisterFlagCompletionFunc("refs", completeRefs(app))
+	_ = cmd.RegisterFlagCompletionFunc("element", completeElements(app))
+	for _, n := range []string{"suggest", "modulation", "window", "max-shift", "background", "samples", "seed"} {
+		if f.Lookup(n) != nil {
+			_ = cmd.RegisterFlagCompletionFunc(n, cobra.NoFileCompletions)
+		}
+	}
+}
+
+// profileOptions holds the flag values of statemix profile.
+type profileOptions struct {
+	fitOptions
+	SputterRate float64
+	CSV         string
+}
+
 func newProfileCmd(app *App) *cobra.Command {
-	return &cobra.Command{
-		Use:    "profile",
-		Short:  "(not yet available)",
-		Hidden: true,
+	opts := &profileOptions{}
+	cmd := &cobra.Command{
+		Use:   "profile FILE|DIR",
+		Short: "Fit every step of a sputter depth profile and find the interfaces",
+		Long: `Fit every step of a sputter depth profile and find the interfaces.
+
+The steps come from a multi-block ISO 14976 file (SDP or NORM; each block's
+sputter time from its experimental variable, or the block number when no block
+has one) or from a folder DIR holding manifest.csv with one line
+"file,sputter_time_s" per step (an optional third field picks the block of the
+file, from 1). Sputter times must increase. Every step is fitted exactly as
+statemix fit fits one spectrum, with the same flags; uncertainties come from
+the covariance by default (--uncertainty bootstrap is available). For each
+state, an interface is where its fraction crosses 50 % (interpolated between
+steps), with the 16-84 % width; --sputter-rate (nm/min) gives them in nm.`,
+		Example: `  # A depth profile in one file, two library references, depths in nm
+  statemix profile depth.vms --refs "Ti foil","TiO2 film" --sputter-rate 2.5
+
+  # A folder of spectra with manifest.csv, CSV and figure out
+  statemix profile run42/ --ref-file metal.csv:metal --ref-file oxide.csv:oxide --csv run42.csv --plot run42.svg`,
+		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
-			return errors.New("profile: not yet available in this build")
+			opts.File = args[0]
+			opts.command = reproduceCommand(cmd, args)
+			return runProfile(app, opts)
 		},
 	}
+	registerSeriesFitFlags(app, cmd, &opts.fitOptions, "covariance")
+	f := cmd.Flags()
+	f.Float64Var(&opts.SputterRate, "sputter-rate", 0, "sputter rate in `NM_PER_MIN` to give depths in nm")
+	f.StringVar(&opts.CSV, "csv", "", "write the fractions per step to `FILE.csv`")
+	f.StringVar(&opts.Plot, "plot", "", "draw the fractions against depth or time to `FILE.svg|.png`")
+	f.StringVar(&opts.Report, "report", "", "write a self-contained HTML report to `FILE.html`")
+	_ = cmd.MarkFlagFilename("plot", "svg", "png")
+	_ = cmd.MarkFlagFilename("report", "html")
+	_ = cmd.MarkFlagFilename("csv", "csv")
+	_ = cmd.RegisterFlagCompletionFunc("sputter-rate", cobra.NoFileCompletions)
+	return cmd
+}
+
+func runProfile(app *App, opts *profileOptions) error {
+	if err := parseFitFlags(&opts.fitOptions); err != nil {
+		return err
+	}
+	if opts.SputterRate < 0 || math.IsNaN(opts.SputterRate) || math.IsInf(opts.SputterRate, 0) {
+		return usageErrorf("--sputter-rate %v: want a rate in nm/min", opts.SputterRate)
+	}
+	if opts.Report != "" && !strings.EqualFold(filepath.Ext(opts.Report), ".html") {
+		return usageErrorf("--report %s: want a .html file name", opts.Report)
+	}
+	steps, warnings, err := series.ReadSteps(opts.File)
+	if err != nil {
+		return err
+	}
+	refs, err := gatherReferences(app, steps[0].Spectrum, &opts.fitOptions)
+	if err != nil {
+		return err
+	}
+	bar := newProgress(app, len(steps), "profile")
+	res, err := series.Profile(app.Ctx, steps, refs, series.ProfileOptions{
+		Fit: opts.fit, Bootstrap: opts.fit.Uncertainty == fit.Bootstrap,
+		SputterRate: opts.SputterRate, Progress: bar.Func()})
+	bar.Finish()
+	if err != nil {
+		return fitError(err)
+	}
+	res.Warnings = append(warnings, res.Warnings...)
+	doc := buildProfileDocument(opts, res)
+	if opts.CSV != "" {
+		if err := writeAtomicFile(opts.CSV, func(w io.Writer) error { return writeProfileCSV(w, res) }); err != nil {
+			return fmt.Errorf("--csv %s: %w", opts.CSV, err)
+		}
+	}
+	if opts.Plot != "" {
+		if err := profileFigure(res, opts.SputterRate > 0, filepath.Base(opts.File)).WriteFile(opts.Plot); err != nil {
+			return err
+		}
+	}
+	if opts.Report != "" {
+		if err := writeAtomicFile(opts.Report, func(w io.Writer) error { return profilePage(app, opts, res).Write(w) }); err != nil {
+			return fmt.Errorf("--report %s: %w", opts.Report, err)
+		}
+	}
+	if app.JSON {
+		enc := json.NewEncoder(app.Out)
+		enc.SetIndent("", "  ")
+		return enc.Encode(doc)
+	}
+	return writeProfileHuman(app, opts, res)
+}
+
+// profileDocument is the statemix.profile/v1 JSON document.
+type profileDocument struct {
+	Schema     string             `json:"schema"`
+	Steps      []profileStep      `json:"steps"`
+	Interfaces []profileInterface `json:"interfaces"`
+	// Added fields.
+	Input    profileInput `json:"input"`
+	WindowEV [2]float64   `json:"window_ev"`
+	Settings fitSettings  `json:"settings"`
+	RateNM   *float64     `json:"sputter_rate_nm_per_min"`
+	Library  fitLibrary   `json:"library"`
+	Warnings []string     `json:"warnings"`
+}
+
+type profileInput struct {
+	Path string `json:"path"`
+}
+
+type profileStep struct {
+	Index        int             `json:"index"`
+	SputterTimeS float64         `json:"sputter_time_s"`
+	DepthNM      *float64        `json:"depth_nm"`
+	Components   []fit.Component `json:"components"`
+	Quality      fit.Quality     `json:"quality"`
+	Source       string          `json:"source"`
+}
+
+type profileInterface struct {
+	State     string   `json:"state"`
+	PositionS float64  `json:"position_s"`
+	DepthNM   *float64 `json:"depth_nm"`
+	WidthNM   *float64 `json:"width_nm"`
+	WidthS    *float64 `json:"width_s"`
+	Rising    bool     `json:"rising"`
+}
+
+// finite returns &v, or nil for NaN (JSON null).
+func finite(v float64) *float64 {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return nil
+	}
+	return &v
+}
+
+func buildProfileDocument(opts *profileOptions, res *series.ProfileResult) *profileDocument {
+	r0 := res.Steps[0].Result
+	o := r0.Options
+	d := &profileDocument{
+		Schema:   "statemix.profile/v1",
+		Input:    profileInput{Path: opts.File},
+		WindowEV: r0.Window,
+		Settings: fitSettings{Shift: o.Shift.String(), MaxShiftEV: o.MaxShift, Background: o.BackgroundDegree(),
+			Normalize: opts.Normalize, Uncertainty: r0.Uncertainty.String(), Samples: o.Samples, Seed: o.Seed,
+			ModulationEV: r0.Modulation, FitMode: r0.Mode.String()},
+		RateNM:     finite(opts.SputterRate),
+		Library:    fitLibrary{Revision: opts.libRevision, Dir: opts.libDir},
+		Warnings:   append([]string{}, res.Warnings...),
+		Interfaces: []profileInterface{},
+	}
+	if opts.SputterRate == 0 {
+		d.RateNM = nil
+	}
+	if r0.Uncertainty == fit.Covariance {
+		d.Settings.Samples = 0
+	}
+	for _, s := range res.Steps {
+		d.Steps = append(d.Steps, profileStep{Index: s.Index, SputterTimeS: s.SputterTimeS, DepthNM: finite(s.DepthNM),
+			Components: s.Result.Components, Quality: s.Result.Quality, Source: s.Source})
+	}
+	for _, x := range res.Interfaces {
+		d.Interfaces = append(d.Interfaces, profileInterface{State: x.State, PositionS: x.PositionS,
+			DepthNM: finite(x.DepthNM), WidthNM: finite(x.WidthNM), WidthS: finite(x.WidthS), Rising: x.Rising})
+	}
+	return d
+}
+
+// componentNames returns the label of each component of the profile.
+func componentNames(res *series.ProfileResult) []string {
+	var names []string
+	for _, c := range res.Steps[0].Result.Components {
+		names = append(names, render.ComponentLabel(c))
+	}
+	return names
+}
+
+func fmtNum(v float64, format string) string {
+	if math.IsNaN(v) {
+		return "-"
+	}
+	return fmt.Sprintf(format, v)
+}
+
+// profileTable is one row per step: time, depth, each state's fraction
+// with its SD, the common shift and the reduced chi-square.
+func profileTable(res *series.ProfileResult, depth bool) *render.Table {
+	t := &render.Table{Header: []string{"step", "time (s)"}}
+	if depth {
+		t.Header = append(t.Header, "depth (nm)")
+	}
+	for _, n := range componentNames(res) {
+		t.Header = append(t.Header, n+" (%)")
+	}
+	t.Header = append(t.Header, "shift (eV)", "chi2 red.")
+	for i := range t.Header {
+		t.Right = append(t.Right, i != 0)
+	}
+	for _, s := range res.Steps {
+		row := []string{strconv.Itoa(s.Index), fmtNum(s.SputterTimeS, "%.4g")}
+		if depth {
+			row = append(row, fmtNum(s.DepthNM, "%.4g"))
+		}
+		for _, c := range s.Result.Components {
+			if c.AtBound {
+				row = append(row, fmt.Sprintf("0 (< %.1f)", 100*c.FractionCI95[1]))
+			} else {
+				row = append(row, fmt.Sprintf("%.1f ± %.1f", 100*c.Fraction, 100*c.FractionSD))
+			}
+		}
+		row = append(row, fmtNum(s.Result.Components[0].Shift, "%+.2f"), fmtNum(s.Result.Quality.Chi2Reduced, "%.3g"))
+		t.Rows = append(t.Rows, row)
+	}
+	return t
+}
+
+func interfaceTable(res *series.ProfileResult, depth bool) *render.Table {
+	t := &render.Table{Header: []string{"state", "direction", "position (s)", "width 16-84 % (s)"}, Right: []bool{false, false, true, true}}
+	if depth {
+		t.Header = append(t.Header, "depth (nm)", "width (nm)")
+		t.Right = append(t.Right, true, true)
+	}
+	for _, x := range res.Interfaces {
+		dir := "falls"
+		if x.Rising {
+			dir = "rises"
+		}
+		row := []string{x.State, dir, fmtNum(x.PositionS, "%.4g"), fmtNum(x.WidthS, "%.3g")}
+		if depth {
+			row = append(row, fmtNum(x.DepthNM, "%.4g"), fmtNum(x.WidthNM, "%.3g"))
+		}
+		t.Rows = append(t.Rows, row)
+	}
+	return t
+}
+
+func writeProfileHuman(app *App, opts *profileOptions, res *series.ProfileResult) error {
+	w := app.Out
+	depth := opts.SputterRate > 0
+	r0 := res.Steps[0].Result
+	if !app.Quiet {
+		fmt.Fprintf(w, "%s: %d steps, %d references, window %.5g-%.5g eV, %s fit, uncertainty by %s\n\n",
+			opts.File, len(res.Steps), len(r0.Components), r0.Window[0], r0.Window[1], r0.Mode, r0.Uncertainty)
+	}
+	if err := profileTable(res, depth).WriteText(w); err != nil {
+		return err
+	}
+	fmt.Fprintln(w)
+	if len(res.Interfaces) == 0 {
+		fmt.Fprintln(w, "no interfaces: no state's fraction passes from below 40 % to above 60 % or back")
+	} else {
+		fmt.Fprintln(w, "interfaces (50 % crossing, 16-84 % width):")
+		if err := interfaceTable(res, depth).WriteText(w); err != nil {
+			return err
+		}
+	}
+	for _, s := range res.Warnings {
+		app.Warn(s)
+	}
+	return nil
+}
+
+// writeProfileCSV writes one row per step: index, time, depth, then per
+// component fraction, SD and the 95 % interval, then shift and reduced
+// chi-square.
+func writeProfileCSV(w io.Writer, res *series.ProfileResult) error {
+	cw := csv.NewWriter(w)
+	head := []string{"index", "sputter_time_s", "depth_nm"}
+	for _, c := range res.Steps[0].Result.Components {
+		n := c.State
+		if n == "" {
+			n = c.Name
+		}
+		head = append(head, n+"_fraction", n+"_fraction_sd", n+"_ci95_lo", n+"_ci95_hi")
+	}
+	head = append(head, "shift_ev", "chi2_reduced")
+	if err := cw.Write(head); err != nil {
+		return err
+	}
+	g := func(v float64) string {
+		if math.IsNaN(v) {
+			return ""
+		}
+		return strconv.FormatFloat(v, 'g', -1, 64)
+	}
+	for _, s := range res.Steps {
+		row := []string{strconv.Itoa(s.Index), g(s.SputterTimeS), g(s.DepthNM)}
+		for _, c := range s.Result.Components {
+			row = append(row, g(c.Fraction), g(c.FractionSD), g(c.FractionCI95[0]), g(c.FractionCI95[1]))
+		}
+		row = append(row, g(s.Result.Components[0].Shift), g(s.Result.Quality.Chi2Reduced))
+		if err := cw.Write(row); err != nil {
+			return err
+		}
+	}
+	cw.Flush()
+	return cw.Error()
+}
+
+// profileFigure draws each state's fraction with its SD as error bars
+// against depth (with a sputter rate) or sputter time, and dotted lines at
+// the interfaces.
+func profileFigure(res *series.ProfileResult, depth bool, title string) *render.Figure {
+	xl := "sputter time (s)"
+	if depth {
+		xl = "depth (nm)"
+	}
+	p := render.NewPlot(xl, "fraction")
+	p.Title.Text = title
+	x := make([]float64, len(res.Steps))
+	for i, s := range res.Steps {
+		x[i] = s.SputterTimeS
+		if depth {
+			x[i] = s.DepthNM
+		}
+	}
+	for c, name := range componentNames(res) {
+		col := render.Palette[c%len(render.Palette)]
+		y := make([]float64, len(x))
+		pts := make(plotter.XYs, len(x))
+		errs := make(plotter.YErrors, len(x))
+		for i, s := range res.Steps {
+			comp := s.Result.Components[c]
+			y[i] = comp.Fraction
+			pts[i] = plotter.XY{X: x[i], Y: comp.Fraction}
+			errs[i].Low, errs[i].High = comp.FractionSD, comp.FractionSD
+		}
+		l := render.Line(x, y, col, 1.2, nil)
+		p.Add(l)
+		p.Legend.Add(name, l)
+		if eb, err := plotter.NewYErrorBars(struct {
+			plotter.XYs
+			plotter.YErrors
+		}{pts, errs}); err == nil {
+			eb.Color = col
+			eb.CapWidth = 2
+			p.Add(eb)
+		}
+		if sc, err := plotter.NewScatter(pts); err == nil {
+			sc.GlyphStyle.Color = col
+			sc.GlyphStyle.Radius = 1.3
+			sc.GlyphStyle.Shape = draw.CircleGlyph{}
+			p.Add(sc)
+		}
+	}
+	for _, it := range res.Interfaces {
+		xv := it.PositionS
+		if depth {
+			xv = it.DepthNM
+		}
+		p.Add(render.Line([]float64{xv, xv}, []float64{0, 1}, render.Palette[it.Component%len(render.Palette)], 0.6, []vg.Length{1, 2}))
+	}
+	p.Y.Min, p.Y.Max = -0.05, 1.05
+	return &render.Figure{Panels: []render.Panel{{Plot: p}}}
+}
+
+func profilePage(app *App, opts *profileOptions, res *series.ProfileResult) *render.Page {
+	depth := opts.SputterRate > 0
+	r0 := res.Steps[0].Result
+	settings := [][2]string{
+		{"input", opts.File},
+		{"steps", strconv.Itoa(len(res.Steps))},
+		{"window", fmt.Sprintf("%.5g–%.5g eV", r0.Window[0], r0.Window[1])},
+		{"fit mode", r0.Mode.String()},
+		{"shift", fmt.Sprintf("%s, at most %.3g eV", r0.Options.Shift, r0.Options.MaxShift)},
+		{"background degree", fmt.Sprint(r0.Options.BackgroundDegree())},
+		{"normalisation", opts.Normalize},
+		{"uncertainty", r0.Uncertainty.String()},
+		{"command", opts.command},
+		{"statemix", Version},
+		{"generated", app.Now().UTC().Format("2006-01-02 15:04:05 UTC")},
+	}
+	if depth {
+		settings = append(settings, [2]string{"sputter rate", fmt.Sprintf("%.4g nm/min", opts.SputterRate)})
+	}
+	if opts.libDir != "" {
+		settings = append(settings, [2]string{"library", fmt.Sprintf("%s (revision %d)", opts.libDir, opts.libRevision)})
+	}
+	pg := &render.Page{Title: "Depth profile: " + filepath.Base(opts.File), Subtitle: "chemical-state fractions against " + map[bool]string{true: "depth", false: "sputter time"}[depth]}
+	pg.Sections = append(pg.Sections,
+		render.Section{Heading: "Fractions", Blocks: []render.Block{render.FigureBlock(profileFigure(res, depth, ""), "fraction of each state with ± 1 SD; dotted lines at the interfaces")}},
+		render.Section{Heading: "Interfaces", Blocks: []render.Block{render.TableBlock(interfaceTable(res, depth))}},
+		render.Section{Heading: "Steps", Blocks: []render.Block{render.TableBlock(profileTable(res, depth))}},
+		render.Section{Heading: "Settings", Blocks: []render.Block{render.KeyValues(settings)}},
+	)
+	if len(res.Warnings) > 0 {
+		pg.Sections = append(pg.Sections, render.Section{Heading: "Warnings", Blocks: []render.Block{render.Warnings(res.Warnings)}})
+	}
+	return pg
+}
+
+// writeAtomicFile writes path through fill into a temporary file in the
+// same folder and renames it into place only when complete.
+func writeAtomicFile(path string, fill func(io.Writer) error) (err error) {
+	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp*")
+	if err != nil {
+		return err
+	}
+	defer func() {
+		if err != nil {
+			f.Close()
+			os.Remove(f.Name())
+		}
+	}()
+	if err = fill(f); err != nil {
+		return err
+	}
+	if err = f.Close(); err != nil {
+		return err
+	}
+	return os.Rename(f.Name(), path)
 }
