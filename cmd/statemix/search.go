@@ -92,7 +92,7 @@ func runSearch(app *App, o *searchOptions) error {
 	if o.Fields || (o.Query == "" && o.Like == "") {
 		return printFields(app)
 	}
-	store, err := app.openStore()
+	store, err := app.openLibrary(false)
 	if err != nil {
 		return err
 	}
@@ -107,7 +107,7 @@ func runSearch(app *App, o *searchOptions) error {
 	var hits []index.Hit
 	total := 0
 	if o.Like != "" {
-		s, err := readSpectrumBlock(o.Like, o.Block-1)
+		s, err := readSpectrumBlock(o.Like, o.Block)
 		if err != nil {
 			return err
 		}

@@ -3,14 +3,11 @@ package main
 import (
 	"errors"
 	"fmt"
-	"path/filepath"
-	"strings"
 
 	"statemix/index"
 	"statemix/library"
 	"statemix/lineshape"
-	"statemix/lineshape/format/delimited"
-	"statemix/lineshape/format/vamas"
+	"statemix/lineshape/format"
 )
 
 // syncIndex brings the library's index up to date after a write (library
@@ -61,48 +58,15 @@ func (a *App) openSearchIndex(store *library.Store) (*index.Index, error) {
 	return index.Open(store.Dir(), true)
 }
 
-// openStore opens the library named by --library and friends.
-func (a *App) openStore() (*library.Store, error) {
-	dir, err := a.LibraryDir()
+// readSpectrumBlock reads block (1-based; 0 means "the file's only
+// spectrum") of a spectrum file in any format package format reads.
+func readSpectrumBlock(path string, block int) (*lineshape.Spectrum, error) {
+	specs, err := format.ReadFile(path, format.Options{Block: block})
 	if err != nil {
 		return nil, err
 	}
-	st, err := library.Open(dir)
-	if err != nil {
-		return nil, fmt.Errorf("library %s: %w", dir, err)
+	if len(specs) != 1 {
+		return nil, &lineshape.InputError{File: path, Block: -1, Err: fmt.Errorf("%d spectra: choose one with --block", len(specs))}
 	}
-	return st, nil
-}
-
-// readSpectrumBlock reads block (0-based; -1 means "the only one") of a
-// spectrum file: VAMAS (.vms, .vamas) or delimited text otherwise.
-func readSpectrumBlock(path string, block int) (*lineshape.Spectrum, error) {
-	var specs []*lineshape.Spectrum
-	switch strings.ToLower(filepath.Ext(path)) {
-	case ".vms", ".vamas":
-		f, err := vamas.ReadFile(path)
-		if err != nil {
-			return nil, err
-		}
-		specs, err = f.Spectra()
-		if err != nil {
-			return nil, err
-		}
-	default:
-		s, err := delimited.ReadFile(path, delimited.Options{})
-		if err != nil {
-			return nil, err
-		}
-		specs = []*lineshape.Spectrum{s}
-	}
-	if block < 0 {
-		if len(specs) != 1 {
-			return nil, &lineshape.InputError{File: path, Block: -1, Err: fmt.Errorf("%d blocks: choose one with --block", len(specs))}
-		}
-		return specs[0], nil
-	}
-	if block >= len(specs) {
-		return nil, &lineshape.InputError{File: path, Block: -1, Err: fmt.Errorf("no block %d: the file has %d", block+1, len(specs))}
-	}
-	return specs[block], nil
+	return specs[0], nil
 }
