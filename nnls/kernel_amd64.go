@@ -36,3 +36,34 @@ func axpy(alpha float64, x, y []float64) {
 	}
 	floats.AddScaled(y, alpha, x)
 }
+
+//go:noescape
+func dot2AVX(u, a, b []float64) (da, db float64)
+
+//go:noescape
+func axpy2AVX(alpha, beta float64, u, a, b []float64)
+
+// dot2 returns u.a and u.b; a and b must have the length of u.
+func dot2(u, a, b []float64) (float64, float64) {
+	if len(a) != len(u) || len(b) != len(u) {
+		panic("nnls: internal error: dot2 length mismatch")
+	}
+	if useAVX {
+		return dot2AVX(u, a, b)
+	}
+	return floats.Dot(u, a), floats.Dot(u, b)
+}
+
+// axpy2 sets a += alpha u and b += beta u; a and b must have the length
+// of u.
+func axpy2(alpha, beta float64, u, a, b []float64) {
+	if len(a) != len(u) || len(b) != len(u) {
+		panic("nnls: internal error: axpy2 length mismatch")
+	}
+	if useAVX {
+		axpy2AVX(alpha, beta, u, a, b)
+		return
+	}
+	floats.AddScaled(a, alpha, u)
+	floats.AddScaled(b, beta, u)
+}

@@ -38,6 +38,24 @@ func testKernels(t *testing.T) {
 			if got := dot(x, y); !scalar.EqualWithinAbs(got, want, 1e-14*abs+1e-300) {
 				t.Errorf("n=%d: dot = %v, want %v", n, got, want)
 			}
+			z := append([]float64(nil), buf[off+50:off+50+n]...)
+			var wantz, absz float64
+			for i := range x {
+				wantz += x[i] * z[i]
+				absz += math.Abs(x[i] * z[i])
+			}
+			g1, g2 := dot2(x, y, z)
+			if !scalar.EqualWithinAbs(g1, want, 1e-14*abs+1e-300) || !scalar.EqualWithinAbs(g2, wantz, 1e-14*absz+1e-300) {
+				t.Errorf("n=%d: dot2 = %v %v, want %v %v", n, g1, g2, want, wantz)
+			}
+			y2, z2 := append([]float64(nil), y...), append([]float64(nil), z...)
+			axpy2(0.37, -1.5, x, y2, z2)
+			for i := range x {
+				if !scalar.EqualWithinAbsOrRel(y2[i], y[i]+0.37*x[i], 1e-15, 1e-15) ||
+					!scalar.EqualWithinAbsOrRel(z2[i], z[i]-1.5*x[i], 1e-15, 1e-15) {
+					t.Fatalf("n=%d: axpy2[%d] = %v %v", n, i, y2[i], z2[i])
+				}
+			}
 			want2 := make([]float64, n)
 			for i := range x {
 				want2[i] = y[i] + 0.37*x[i]

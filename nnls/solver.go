@@ -223,32 +223,95 @@ func loadColMajor(w []float64, a mat.Matrix) {
 }
 
 // transpose copies the row-major m x n src (row stride st) into the
-// column-major w, four columns per pass.
+// column-major w, several columns per pass over src.
 func transpose(w, src []float64, m, n, st int) {
-	j := 0
-	for ; j+4 <= n; j += 4 {
-		c0 := w[j*m : (j+1)*m]
-		c1 := w[(j+1)*m : (j+2)*m]
-		c2 := w[(j+2)*m : (j+3)*m]
-		c3 := w[(j+3)*m : (j+4)*m]
-		for i := range c0 {
-			r := src[i*st+j : i*st+j+4 : i*st+j+4]
-			c0[i], c1[i], c2[i], c3[i] = r[0], r[1], r[2], r[3]
+	for j := 0; j < n; {
+		switch rem := n - j; {
+		case rem >= 8:
+			transpose8(w, src, m, st, j)
+			j += 8
+		case rem == 6:
+			transpose6(w, src, m, st, j)
+			j += 6
+		case rem == 7 || rem == 4:
+			transpose4(w, src, m, st, j)
+			j += 4
+		case rem == 5 || rem == 3:
+			transpose3(w, src, m, st, j)
+			j += 3
+		case rem == 2:
+			transpose2(w, src, m, st, j)
+			j += 2
+		default:
+			c0 := w[j*m : (j+1)*m]
+			for i := range c0 {
+				c0[i] = src[i*st+j]
+			}
+			j++
 		}
 	}
-	for ; j+2 <= n; j += 2 {
-		c0 := w[j*m : (j+1)*m]
-		c1 := w[(j+1)*m : (j+2)*m]
-		for i := range c0 {
-			r := src[i*st+j : i*st+j+2 : i*st+j+2]
-			c0[i], c1[i] = r[0], r[1]
-		}
+}
+
+// transpose8 copies columns j..j+7.
+func transpose8(w, src []float64, m, st, j int) {
+	c0 := w[j*m : (j+1)*m]
+	c1 := w[(j+1)*m : (j+1+1)*m][:len(c0)]
+	c2 := w[(j+2)*m : (j+2+1)*m][:len(c0)]
+	c3 := w[(j+3)*m : (j+3+1)*m][:len(c0)]
+	c4 := w[(j+4)*m : (j+4+1)*m][:len(c0)]
+	c5 := w[(j+5)*m : (j+5+1)*m][:len(c0)]
+	c6 := w[(j+6)*m : (j+6+1)*m][:len(c0)]
+	c7 := w[(j+7)*m : (j+7+1)*m][:len(c0)]
+	for i := range c0 {
+		r := src[i*st+j : i*st+j+8 : i*st+j+8]
+		c0[i], c1[i], c2[i], c3[i], c4[i], c5[i], c6[i], c7[i] = r[0], r[1], r[2], r[3], r[4], r[5], r[6], r[7]
 	}
-	for ; j < n; j++ {
-		c0 := w[j*m : (j+1)*m]
-		for i := range c0 {
-			c0[i] = src[i*st+j]
-		}
+}
+
+// transpose6 copies columns j..j+5.
+func transpose6(w, src []float64, m, st, j int) {
+	c0 := w[j*m : (j+1)*m]
+	c1 := w[(j+1)*m : (j+1+1)*m][:len(c0)]
+	c2 := w[(j+2)*m : (j+2+1)*m][:len(c0)]
+	c3 := w[(j+3)*m : (j+3+1)*m][:len(c0)]
+	c4 := w[(j+4)*m : (j+4+1)*m][:len(c0)]
+	c5 := w[(j+5)*m : (j+5+1)*m][:len(c0)]
+	for i := range c0 {
+		r := src[i*st+j : i*st+j+6 : i*st+j+6]
+		c0[i], c1[i], c2[i], c3[i], c4[i], c5[i] = r[0], r[1], r[2], r[3], r[4], r[5]
+	}
+}
+
+// transpose4 copies columns j..j+3.
+func transpose4(w, src []float64, m, st, j int) {
+	c0 := w[j*m : (j+1)*m]
+	c1 := w[(j+1)*m : (j+1+1)*m][:len(c0)]
+	c2 := w[(j+2)*m : (j+2+1)*m][:len(c0)]
+	c3 := w[(j+3)*m : (j+3+1)*m][:len(c0)]
+	for i := range c0 {
+		r := src[i*st+j : i*st+j+4 : i*st+j+4]
+		c0[i], c1[i], c2[i], c3[i] = r[0], r[1], r[2], r[3]
+	}
+}
+
+// transpose3 copies columns j..j+2.
+func transpose3(w, src []float64, m, st, j int) {
+	c0 := w[j*m : (j+1)*m]
+	c1 := w[(j+1)*m : (j+1+1)*m][:len(c0)]
+	c2 := w[(j+2)*m : (j+2+1)*m][:len(c0)]
+	for i := range c0 {
+		r := src[i*st+j : i*st+j+3 : i*st+j+3]
+		c0[i], c1[i], c2[i] = r[0], r[1], r[2]
+	}
+}
+
+// transpose2 copies columns j..j+1.
+func transpose2(w, src []float64, m, st, j int) {
+	c0 := w[j*m : (j+1)*m]
+	c1 := w[(j+1)*m : (j+1+1)*m][:len(c0)]
+	for i := range c0 {
+		r := src[i*st+j : i*st+j+2 : i*st+j+2]
+		c0[i], c1[i] = r[0], r[1]
 	}
 }
 
@@ -275,12 +338,22 @@ func (s *Solver) factor() float64 {
 			continue
 		}
 		beta := -s.rd[k] * col[0]
-		for j := k + 1; j < n; j++ {
-			cj := w[j*m+k : (j+1)*m]
-			axpy(-dot(col, cj)/beta, col, cj)
-		}
+		// Apply the reflector to the later columns and to b, two at a
+		// time so that col is read once per pair.
 		qb := s.qb[k:]
-		axpy(-dot(col, qb)/beta, col, qb)
+		j := k + 1
+		for ; j+1 < n; j += 2 {
+			c0, c1 := w[j*m+k:(j+1)*m], w[(j+1)*m+k:(j+2)*m]
+			d0, d1 := dot2(col, c0, c1)
+			axpy2(-d0/beta, -d1/beta, col, c0, c1)
+		}
+		if j < n {
+			c0 := w[j*m+k : (j+1)*m]
+			d0, d1 := dot2(col, c0, qb)
+			axpy2(-d0/beta, -d1/beta, col, c0, qb)
+		} else {
+			axpy(-dot(col, qb)/beta, col, qb)
+		}
 	}
 	for j := 0; j < n; j++ {
 		var ss float64

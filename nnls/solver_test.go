@@ -475,3 +475,26 @@ func TestExtremeScales(t *testing.T) {
 		}
 	}
 }
+
+// TestTranspose checks the blocked copy of a row-major matrix for every
+// column count the block widths combine to.
+func TestTranspose(t *testing.T) {
+	for n := 1; n <= 19; n++ {
+		for _, m := range []int{1, 7, 33} {
+			st := n + 2
+			src := make([]float64, m*st)
+			for i := range src {
+				src[i] = float64(i)
+			}
+			w := make([]float64, m*n)
+			transpose(w, src, m, n, st)
+			for j := 0; j < n; j++ {
+				for i := 0; i < m; i++ {
+					if w[j*m+i] != src[i*st+j] {
+						t.Fatalf("m=%d n=%d: w[%d,%d] = %v, want %v", m, n, i, j, w[j*m+i], src[i*st+j])
+					}
+				}
+			}
+		}
+	}
+}
