@@ -56,7 +56,8 @@
 // the best by Brent's method (Brent, Algorithms for Minimization without
 // Derivatives, 1973) within one scan step on either side. ShiftEach starts
 // from the best common shift and makes coordinate sweeps: each reference's
-// shift in turn is scanned over the whole grid with the others fixed and
+// shift in turn is scanned with the others fixed (over the whole grid in
+// the first sweep, within 4 grid steps of its value in later sweeps) and
 // refined by Brent's method; sweeps stop when no shift moves by more than
 // 0.001 eV (at most 20). A shift within 0.01 eV of its bound is reported
 // (ShiftAtBound) with a warning.

@@ -141,7 +141,14 @@ func (w *worker) sweep(shifts []float64, cur float64) float64 {
 		moved := 0.0
 		for i := 0; i < k; i++ {
 			bestJ, best := -1, cur
-			for j := range m.shifts {
+			// The first sweep scans the whole range; later sweeps, once the
+			// other shifts have settled, scan 0.2 eV either side.
+			jlo, jhi := 0, len(m.shifts)-1
+			if iter > 0 {
+				j0 := int(math.Round((shifts[i] + m.bound) / h))
+				jlo, jhi = max(0, j0-4), min(len(m.shifts)-1, j0+4)
+			}
+			for j := jlo; j <= jhi; j++ {
 				w.cols[i] = m.tables[i][j]
 				rss, err := w.solveCols()
 				if err == nil && rss < best*(1-1e-12) {
