@@ -57,3 +57,24 @@ func BenchmarkAdd(b *testing.B) {
 		})
 	}
 }
+
+// BenchmarkResolve resolves a name and an id prefix in a library of n
+// entries.
+func BenchmarkResolve(b *testing.B) {
+	for _, n := range []int{100, 1000} {
+		s := benchLib(b, n)
+		e, err := s.Resolve("ref 7")
+		if err != nil {
+			b.Fatal(err)
+		}
+		for _, ref := range []struct{ kind, ref string }{{"name", "ref 7"}, {"prefix", e.ID[:6]}, {"id", e.ID}} {
+			b.Run(fmt.Sprintf("n=%d/ref=%s", n, ref.kind), func(b *testing.B) {
+				for b.Loop() {
+					if _, err := s.Resolve(ref.ref); err != nil {
+						b.Fatal(err)
+					}
+				}
+			})
+		}
+	}
+}

@@ -1,6 +1,7 @@
 package library
 
 import (
+	"bufio"
 	"bytes"
 	"encoding/json"
 	"errors"
@@ -375,9 +376,55 @@ func sortEntries(es []*Entry) {
 // Resolve finds the entry ref names: a full ID, else a unique name, else a
 // unique ID prefix of at least 4 characters. An ambiguous prefix or name
 // is an *AmbiguousError listing the IDs; no match a *NotFoundError.
+//
+// Only the names and ids of the other entries are read (a full id needs
+// no scan at all), so resolving is cheap in a large library. An entry
+// file that cannot be read does not take part.
 func (s *Store) Resolve(ref string) (*Entry, error) {
-	entries, _ := s.Entries()
-	return resolveIn(entries, ref)
+	r := strings.TrimSpace(ref)
+	if isID(r) {
+		for _, k := range []Kind{KindReference, KindMeasurement} {
+			e, err := ReadEntryFile(s.entryPath(k, r))
+			if err == nil {
+				return e, nil
+			}
+			if !errors.Is(err, fs.ErrNotExist) {
+				return nil, err
+			}
+		}
+	}
+	heads := s.heads()
+	h, err := resolveIn(heads, ref)
+	if err != nil {
+		return nil, err
+	}
+	return ReadEntryFile(s.entryPath(h.Kind, h.ID))
+}
+
+// heads returns the id, kind and name of every readable entry file,
+// skipping the spectra (their numbers are most of the decoding work).
+func (s *Store) heads() []*Entry {
+	var out []*Entry
+	for _, k := range []Kind{KindReference, KindMeasurement} {
+		dir := filepath.Join(s.dir, k.folder())
+		des, err := os.ReadDir(dir)
+		if err != nil {
+			continue
+		}
+		for _, de := range des {
+			name := de.Name()
+			id, ok := strings.CutSuffix(name, ".json")
+			if de.IsDir() || strings.HasPrefix(name, ".") || !ok || !isID(id) {
+				continue
+			}
+			h, err := readHead(filepath.Join(dir, name))
+			if err != nil || h.Format != entryFormat || h.ID != id || h.Kind != k {
+				continue
+			}
+			out = append(out, &Entry{ID: h.ID, Kind: h.Kind, Name: h.Name})
+		}
+	}
+	return out
 }
 
 func resolveIn(entries []*Entry, ref string) (*Entry, error) {
@@ -486,13 +533,15 @@ func (s *Store) Add(es ...*Entry) ([]*Entry, []Warning, error) {
 	}
 	rev := m.Revision + 1
 	t := s.now().UTC()
+	known := existing
 	for _, e := range es {
 		e.Revision = rev
 		if e.Provenance.ImportedAt.IsZero() {
 			e.Provenance.ImportedAt = t
 		}
 		warns = append(warns, intrinsicWarnings(e)...)
-		warns = append(warns, duplicateWarnings(e, existing)...)
+		warns = append(warns, duplicateWarnings(e, known)...)
+		known = append(known[:len(known):len(known)], e) // later new entries are checked against earlier ones
 	}
 	var changes []Change
 	for _, e := range es {
@@ -698,4 +747,58 @@ func (s *Store) Remove(ref string) (*Entry, error) {
 		return nil, err
 	}
 	return e, nil
+}
+
+// entryHead is the identifying part of an entry file.
+type entryHead struct {
+	Format string
+	ID     string
+	Kind   Kind
+	Name   string
+}
+
+// readHead reads the format, id, kind and name of an entry file. Our
+// files carry them first, so it stops reading long before the spectrum.
+func readHead(path string) (entryHead, error) {
+	var h entryHead
+	f, err := os.Open(path)
+	if err != nil {
+		return h, err
+	}
+	defer f.Close()
+	dec := json.NewDecoder(bufio.NewReaderSize(f, 4096))
+	if t, err := dec.Token(); err != nil || t != json.Delim('{') {
+		return h, errors.New("not a JSON object")
+	}
+	seen := 0
+	for dec.More() && seen < 4 {
+		t, err := dec.Token()
+		if err != nil {
+			return h, err
+		}
+		key, _ := t.(string)
+		var dst *string
+		switch key {
+		case "format":
+			dst = &h.Format
+		case "id":
+			dst = &h.ID
+		case "kind":
+			dst = (*string)(&h.Kind)
+		case "name":
+			dst = &h.Name
+		}
+		if dst == nil {
+			var skip json.RawMessage
+			if err := dec.Decode(&skip); err != nil {
+				return h, err
+			}
+			continue
+		}
+		if err := dec.Decode(dst); err != nil {
+			return h, err
+		}
+		seen++
+	}
+	return h, nil
 }

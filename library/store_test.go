@@ -308,6 +308,11 @@ func TestWarnings(t *testing.T) {
 	if len(ws) != 2 || !hasCode(ws, WarnDuplicateState) || !strings.Contains(ws[0].Message+ws[1].Message, metal.ID) {
 		t.Errorf("twin of another state: warnings %v, want %s naming %s", ws, WarnDuplicateState, metal.ID)
 	}
+	// Within one Add, later entries are checked against earlier ones.
+	_, ws, err = s.Add(tiEntry("Ti carbide", "carbide", 392, 5), tiEntry("Ti boride?", "boride", 392, 6))
+	if err != nil || len(ws) != 1 || ws[0].Name != "Ti boride?" || ws[0].Code != WarnDuplicateState {
+		t.Errorf("twins in one Add: %v %v", ws, err)
+	}
 	// A line shifted by 4 eV is a different state, not a duplicate.
 	_, ws, err = s.Add(tiEntry("Ti nitride", "nitride", 387, 3))
 	if err != nil || hasCode(ws, WarnDuplicateState) {
