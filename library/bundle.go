@@ -332,21 +332,14 @@ func (s *Store) Import(r io.Reader, opts ImportOptions) (*ImportResult, error) {
 	}
 	rev := m.Revision + 1
 	t := s.now().UTC()
-	var changes []Change
+	known := existing
 	for _, e := range toAdd {
 		e.Revision = rev
 		res.Warnings = append(res.Warnings, intrinsicWarnings(e)...)
-		res.Warnings = append(res.Warnings, duplicateWarnings(e, existing)...)
-		b, err := encodeEntry(e)
-		if err != nil {
-			return nil, err
-		}
-		if err := writeFileAtomic(s.entryPath(e.Kind, e.ID), b); err != nil {
-			return nil, fmt.Errorf("write entry %s: %w", e.ID, err)
-		}
-		changes = append(changes, Change{Revision: rev, Op: OpAdd, ID: e.ID, Kind: e.Kind})
+		res.Warnings = append(res.Warnings, duplicateWarnings(e, known)...)
+		known = append(known[:len(known):len(known)], e)
 	}
-	if err := s.commit(m, rev, t, changes); err != nil {
+	if err := s.writeNew(m, rev, t, toAdd); err != nil {
 		return nil, err
 	}
 	res.Added = toAdd

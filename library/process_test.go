@@ -315,3 +315,34 @@ func TestVerifyReportsHandEdits(t *testing.T) {
 		t.Errorf("hand-edited entries should stay readable: %d", n)
 	}
 }
+
+// TestAddRollsBack checks that a failed write in the middle of an Add
+// removes what the Add already wrote.
+func TestAddRollsBack(t *testing.T) {
+	s := newLib(t)
+	mustAdd(t, s, tiEntry("kept", "metal", 383, 1))
+	n := 0
+	testHookAfterTemp = func(tmp string) error {
+		if strings.Contains(tmp, "refs") {
+			n++
+			if n == 2 {
+				os.Remove(tmp) // a write that fails cleans its own temporary file
+				return errors.New("disk full")
+			}
+		}
+		return nil
+	}
+	defer func() { testHookAfterTemp = nil }()
+	_, _, err := s.Add(tiEntry("one", "oxide", 388, 2), tiEntry("two", "nitride", 393, 3))
+	if err == nil || !strings.Contains(err.Error(), "disk full") {
+		t.Fatalf("add: %v", err)
+	}
+	testHookAfterTemp = nil
+	if c := countEntries(t, s); c != 1 || s.Revision() != 1 {
+		t.Errorf("after a failed add: %d entries at revision %d, want 1 at 1", c, s.Revision())
+	}
+	rep, err := s.Verify(VerifyOptions{})
+	if err != nil || len(rep.Problems) != 0 {
+		t.Errorf("verify: %+v %v", rep, err)
+	}
+}

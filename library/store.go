@@ -543,21 +543,43 @@ func (s *Store) Add(es ...*Entry) ([]*Entry, []Warning, error) {
 		warns = append(warns, duplicateWarnings(e, known)...)
 		known = append(known[:len(known):len(known)], e) // later new entries are checked against earlier ones
 	}
-	var changes []Change
-	for _, e := range es {
-		b, err := encodeEntry(e)
-		if err != nil {
-			return nil, nil, err
-		}
-		if err := writeFileAtomic(s.entryPath(e.Kind, e.ID), b); err != nil {
-			return nil, nil, fmt.Errorf("write entry %s: %w", e.ID, err)
-		}
-		changes = append(changes, Change{Revision: rev, Op: OpAdd, ID: e.ID, Kind: e.Kind})
-	}
-	if err := s.commit(m, rev, t, changes); err != nil {
+	if err := s.writeNew(m, rev, t, es); err != nil {
 		return nil, nil, err
 	}
 	return es, warns, nil
+}
+
+// writeNew writes the files of new entries and then the manifest at
+// revision rev. If a write fails, the files already written by this call
+// are removed again, so that an operation lands completely or not at all
+// (a crash instead leaves them for verify, which reports them).
+func (s *Store) writeNew(m *manifest, rev int, t time.Time, es []*Entry) error {
+	var changes []Change
+	var written []string
+	undo := func() {
+		for _, p := range written {
+			removeFileDurable(p)
+		}
+	}
+	for _, e := range es {
+		b, err := encodeEntry(e)
+		if err != nil {
+			undo()
+			return err
+		}
+		p := s.entryPath(e.Kind, e.ID)
+		if err := writeFileAtomic(p, b); err != nil {
+			undo()
+			return fmt.Errorf("write entry %s: %w", e.ID, err)
+		}
+		written = append(written, p)
+		changes = append(changes, Change{Revision: rev, Op: OpAdd, ID: e.ID, Kind: e.Kind})
+	}
+	if err := s.commit(m, rev, t, changes); err != nil {
+		undo()
+		return err
+	}
+	return nil
 }
 
 // checkNew checks normalised new entries against the library: IDs not
@@ -718,6 +740,9 @@ func (s *Store) Edit(ref string, set map[string]string) (*Entry, []Warning, erro
 		return nil, nil, fmt.Errorf("write entry %s: %w", e.ID, err)
 	}
 	if err := s.commit(m, rev, t, []Change{{Revision: rev, Op: OpEdit, ID: e.ID, Kind: e.Kind}}); err != nil {
+		if ob, oerr := encodeEntry(old); oerr == nil {
+			writeFileAtomic(s.entryPath(old.Kind, old.ID), ob) // put the old labels back
+		}
 		return nil, nil, err
 	}
 	return e, warns, nil
