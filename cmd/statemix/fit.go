@@ -113,7 +113,7 @@ library revision) needed to reproduce the result.`,
 	f.IntVar(&opts.Block, "block", 0, "fit the `N`-th spectrum of FILE, counting from 1 (needed when FILE holds several)")
 	f.StringSliceVar(&opts.Refs, "refs", nil, "library references by id, id prefix or name, comma-separated (`REF,REF,...`)")
 	f.StringArrayVar(&opts.RefFiles, "ref-file", nil, "a reference spectrum from `FILE[:state]` (repeatable)")
-	f.IntVar(&opts.Suggest, "suggest", 0, "add the `K` library references most like the unknown (default 4 when given without a value)")
+	f.IntVar(&opts.Suggest, "suggest", 0, "add the `K` library references most like the unknown (--suggest alone: 4; write --suggest=K)")
 	f.Lookup("suggest").NoOptDefVal = "4"
 	f.StringVar(&opts.Element, "element", "", "use every library reference of element `EL` (with --refs: check they are of EL)")
 	f.Float64Var(&opts.Modulation, "modulation", 0, "peak-to-peak modulation in `EV` for lock-in emulation (default the recorded one)")

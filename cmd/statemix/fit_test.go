@@ -258,3 +258,29 @@ func TestFitLibraryRefs(t *testing.T) {
 		t.Errorf("unknown ref: exit %d", code)
 	}
 }
+
+func TestFitCompletion(t *testing.T) {
+	for flag, want := range map[string][]string{
+		"--shift":       {"none", "common", "each"},
+		"--uncertainty": {"covariance", "bootstrap"},
+		"--normalize":   {"none", "peak-to-peak", "area"},
+	} {
+		code, out, errs := runApp(t, nil, "__complete", "fit", "x.vms", flag, "")
+		if code != 0 {
+			t.Fatalf("%s: exit %d: %s", flag, code, errs)
+		}
+		for _, w := range want {
+			if !strings.Contains(out, w+"\n") {
+				t.Errorf("%s completion lacks %q:\n%s", flag, w, out)
+			}
+		}
+	}
+	// --suggest=K sets K; --suggest alone means 4 (NoOptDefVal).
+	_, metal, _, unknown := fitFixture(t)
+	for _, args := range [][]string{{"--suggest"}, {"--suggest=2"}} {
+		code, _, errs := runApp(t, nil, append([]string{"fit", unknown, "--ref-file", metal, "--uncertainty", "covariance"}, args...)...)
+		if code == exitUsage || !strings.Contains(errs, "--suggest") {
+			t.Errorf("%v: exit %d: %s", args, code, errs)
+		}
+	}
+}
