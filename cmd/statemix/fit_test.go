@@ -206,18 +206,23 @@ func TestFitUsageExit2(t *testing.T) {
 
 func TestFitSuggestAndSaveHooks(t *testing.T) {
 	_, metal, oxide, unknown := fitFixture(t)
-	// --suggest takes an optional K; the hook is not yet implemented.
-	code, _, errs := runApp(t, nil, "fit", unknown, "--ref-file", metal, "--suggest", "--uncertainty", "covariance")
-	if code == 0 || !strings.Contains(errs, "--suggest") || !strings.Contains(errs, "not yet available") {
+	empty := t.TempDir()
+	// --suggest takes an optional K; without a library it fails, naming the flag.
+	code, _, errs := runApp(t, nil, "--library", empty, "fit", unknown, "--ref-file", metal, "--suggest", "--uncertainty", "covariance")
+	if code == 0 || code == exitUsage || !strings.Contains(errs, "--suggest") {
 		t.Errorf("--suggest: exit %d: %s", code, errs)
 	}
 	dir := t.TempDir()
 	if code, _, errs := runApp(t, nil, "--library", dir, "library", "init"); code != 0 {
 		t.Fatal(errs)
 	}
-	code, _, errs = runApp(t, nil, "--library", dir, "fit", unknown, "--ref-file", metal, "--ref-file", oxide+":oxide", "--save", "--uncertainty", "covariance")
-	if code == 0 || !strings.Contains(errs, "--save") {
-		t.Errorf("--save: exit %d: %s", code, errs)
+	code, out, errs := runApp(t, nil, "--library", dir, "--json", "fit", unknown, "--ref-file", metal, "--ref-file", oxide+":oxide", "--save", "--uncertainty", "covariance")
+	if code != 0 {
+		t.Fatalf("--save: exit %d: %s", code, errs)
+	}
+	var doc struct{ Saved string }
+	if err := json.Unmarshal([]byte(out), &doc); err != nil || doc.Saved == "" {
+		t.Errorf("--save: saved id %q (%v)", doc.Saved, err)
 	}
 }
 
