@@ -3,14 +3,17 @@ package main
 import (
 	"bytes"
 	"encoding/json"
-	"errors"
 	"fmt"
+	"path/filepath"
 	"sort"
 	"strings"
 
 	"github.com/spf13/cobra"
+	"gonum.org/v1/plot/vg"
 
+	"statemix/cmd/statemix/render"
 	"statemix/library"
+	"statemix/lineshape"
 )
 
 // libraryListOptions holds the flag values of library list.
@@ -123,8 +126,11 @@ func newLibraryShowCmd(app *App) *cobra.Command {
 		Short: "Show one entry: labels, provenance, acquisition and spectrum",
 		Long: `show prints everything the library holds about one entry. REF is an id, a
 unique id prefix of at least 4 characters, or a name. With --json it
-prints the entry as stored, spectrum included (schema statemix.entry/v1).`,
+prints the entry as stored, spectrum included (schema statemix.entry/v1).
+--plot draws the spectrum as recorded, its main feature marked, into an
+SVG or PNG file.`,
 		Example: `  statemix library show "Ti nitride L3M23M23"
+  statemix library show 3f9a --plot tin.svg
   statemix library show 3f9a --json > tin.json`,
 		Args:              cobra.ExactArgs(1),
 		ValidArgsFunction: completeRefs(app),
@@ -146,7 +152,11 @@ type entryJSON struct {
 
 func runLibraryShow(app *App, o *libraryShowOptions) error {
 	if o.Plot != "" {
-		return errors.New("library show: --plot: figures are not yet available in this build")
+		switch strings.ToLower(filepath.Ext(o.Plot)) {
+		case ".svg", ".png":
+		default:
+			return usageErrorf("library show: --plot %s: want a .svg or .png file", o.Plot)
+		}
 	}
 	st, err := app.openLibrary(false)
 	if err != nil {
@@ -155,6 +165,12 @@ func runLibraryShow(app *App, o *libraryShowOptions) error {
 	e, err := st.Resolve(o.Ref)
 	if err != nil {
 		return fmt.Errorf("library show: %w", err)
+	}
+	if o.Plot != "" {
+		if err := plotEntry(e, o.Plot); err != nil {
+			return fmt.Errorf("library show: %w", err)
+		}
+		app.Infof("wrote %s\n", o.Plot)
 	}
 	if app.JSON {
 		b, err := json.Marshal(e)
@@ -251,4 +267,27 @@ func orDash(s string) string {
 		return "-"
 	}
 	return s
+}
+
+// plotEntry draws an entry's spectrum with its main feature marked.
+func plotEntry(e *library.Entry, path string) error {
+	s := e.Spectrum
+	ylabel := "N(E) (as recorded)"
+	if s.Mode == lineshape.Derivative {
+		ylabel = "dN/dE (as recorded)"
+	}
+	p := render.NewPlot("Kinetic energy (eV)", ylabel)
+	p.Title.Text = fmt.Sprintf("%s  (%s %s %s)", e.Name, e.Element, e.Transition, e.State)
+	p.Add(render.Line(s.Axis.Energies(), s.Y, render.Palette[0], vg.Points(1), nil))
+	if fe, ok := library.MainFeature(s); ok {
+		lo, hi := s.Y[0], s.Y[0]
+		for _, v := range s.Y {
+			lo, hi = min(lo, v), max(hi, v)
+		}
+		mark := render.Line([]float64{fe, fe}, []float64{lo, hi}, render.Palette[1], vg.Points(0.8), []vg.Length{vg.Points(3), vg.Points(3)})
+		p.Add(mark)
+		p.Legend.Add(fmt.Sprintf("main feature %.1f eV", fe), mark)
+	}
+	fig := &render.Figure{Panels: []render.Panel{{Plot: p}}}
+	return fig.WriteFile(path)
 }

@@ -246,7 +246,7 @@ func TestLibraryBadInput(t *testing.T) {
 		{"edit bad value", []string{"library", "edit", "Ti foil", "--set", "element=He"}, exitBadInput, "three electrons"},
 		{"edit nothing", []string{"library", "edit", "Ti foil"}, exitUsage, "--set"},
 		{"show unknown", []string{"library", "show", "nothing-like-it"}, exitFailure, "no entry"},
-		{"show plot", []string{"library", "show", "Ti foil", "--plot", "x.svg"}, exitFailure, "not yet available"},
+		{"show plot format", []string{"library", "show", "Ti foil", "--plot", "x.pdf"}, exitUsage, ".svg or .png"},
 		{"bad query", []string{"library", "export", filepath.Join(t.TempDir(), "x.tar.gz"), "--query", "colour:red"}, exitUsage, "unknown field"},
 	}
 	for _, c := range cases {
@@ -439,5 +439,25 @@ func TestLibraryInitThenVerify(t *testing.T) {
 	mustCLI(t, dir, "library", "init")
 	if code, out, stderr := libCLI(t, dir, "library", "verify"); code != 0 {
 		t.Errorf("verify of a fresh library: exit %d\n%s%s", code, out, stderr)
+	}
+}
+
+func TestLibraryShowPlot(t *testing.T) {
+	dir := filepath.Join(t.TempDir(), "lib")
+	mustCLI(t, dir, "library", "init")
+	mustCLI(t, dir, "library", "add", tiVMS, "--block", "1", "--element", "Ti", "--transition", "L3M23M23", "--state", "metal", "--name", "Ti foil")
+	for _, name := range []string{"ti.svg", "ti.png"} {
+		path := filepath.Join(t.TempDir(), name)
+		mustCLI(t, dir, "library", "show", "Ti foil", "--plot", path)
+		b, err := os.ReadFile(path)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if name == "ti.svg" && !bytes.Contains(b, []byte("<svg")) || name == "ti.png" && !bytes.HasPrefix(b, []byte("\x89PNG")) {
+			t.Errorf("%s: not a figure (%d bytes)", name, len(b))
+		}
+		if len(b) < 1000 {
+			t.Errorf("%s: only %d bytes", name, len(b))
+		}
 	}
 }
