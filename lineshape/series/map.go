@@ -10,6 +10,7 @@ import (
 	"sync/atomic"
 	"time"
 
+	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 
 	"statemix/lineshape"
@@ -487,24 +488,10 @@ func (w *pixelWorker) writeNaN(res *MapResult, p int) {
 	res.Shift[p], res.Chi2[p] = math.NaN(), math.NaN()
 }
 
-// dot returns the dot product of a and b[:len(a)] with four accumulators
-// in a fixed order, so that it is reproducible.
-func dot(a, b []float64) float64 {
-	n := len(a)
-	b = b[:n]
-	var s0, s1, s2, s3 float64
-	i := 0
-	for ; i+4 <= n; i += 4 {
-		s0 += a[i] * b[i]
-		s1 += a[i+1] * b[i+1]
-		s2 += a[i+2] * b[i+2]
-		s3 += a[i+3] * b[i+3]
-	}
-	for ; i < n; i++ {
-		s0 += a[i] * b[i]
-	}
-	return (s0 + s1) + (s2 + s3)
-}
+// dot returns the dot product of a and b[:len(a)] by gonum's assembly
+// kernel (floats.Dot), whose summation order depends only on the length,
+// so that results are reproducible.
+func dot(a, b []float64) float64 { return floats.Dot(a, b[:len(a)]) }
 
 // axpy sets y += alpha x.
 func axpy(alpha float64, x, y []float64) {
