@@ -47,9 +47,12 @@
 //
 // # Revisions and the index
 //
-// Each write operation (Add, Edit, Remove, Import, a repair) raises the
-// manifest revision by one and records what changed in a bounded change
-// log ([Store.ChangesSince]). Package index reads entries and keeps its own
+// Each write operation (Add, Edit, Remove, Import) raises the manifest
+// revision by one and records what changed in a bounded change log
+// ([Store.ChangesSince]); a repair raises a lagging revision to the
+// entries' and logs the entries it recovered, and a rebuilt manifest starts
+// a fresh log (ChangesSince then reports it incomplete, so derived data is
+// rebuilt). Package index reads entries and keeps its own
 // files in [Store.IndexDir]; the command layer tells it what changed after
 // each write, and [VerifyOptions.CheckIndex] lets verify check it.
 //
