@@ -268,6 +268,10 @@ func TestVerifyRebuildsManifest(t *testing.T) {
 	s := newLib(t)
 	mustAdd(t, s, tiEntry("a", "metal", 383, 1))
 	mustAdd(t, s, tiEntry("b", "oxide", 388, 2))
+	os.Remove(filepath.Join(s.Dir(), manifestName))
+	if _, err := Create(s.Dir()); err == nil || !strings.Contains(err.Error(), "--repair") {
+		t.Errorf("Create over orphaned entries: %v", err)
+	}
 	os.WriteFile(filepath.Join(s.Dir(), manifestName), []byte("garbage"), 0o644)
 	rep, err := VerifyDir(s.Dir(), VerifyOptions{})
 	if err != nil || problemCodes(rep) != ProblemManifest || rep.OK() {

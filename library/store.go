@@ -93,6 +93,11 @@ func Create(dir string) (*Store, error) {
 		return nil, fmt.Errorf("%s: %w", dir, ErrLibraryExists)
 	}
 	for _, sub := range []string{refsDir, runsDir} {
+		if des, _ := os.ReadDir(filepath.Join(dir, sub)); len(des) > 0 {
+			return nil, fmt.Errorf("%s has entry files in %s/ but no %s: statemix library verify --repair rebuilds the manifest from them", dir, sub, manifestName)
+		}
+	}
+	for _, sub := range []string{refsDir, runsDir} {
 		if err := os.MkdirAll(filepath.Join(dir, sub), 0o755); err != nil {
 			return nil, fmt.Errorf("create library: %w", err)
 		}
