@@ -649,6 +649,10 @@ func writeReport(app *App, opts *fitOptions, res *fit.Result, extra []render.Sec
 		f.Close()
 		return fmt.Errorf("--report %s: %w", opts.Report, err)
 	}
+	if err := f.Chmod(0o644); err != nil {
+		f.Close()
+		return err
+	}
 	if err := f.Close(); err != nil {
 		return err
 	}
