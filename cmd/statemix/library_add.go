@@ -44,7 +44,8 @@ modulation, dwell, scans, analyser mode).
 FILE is an ISO 14976 (VAMAS) file, from which add takes its only block, the
 block given by --block (counted from 1), or every block with --all-blocks;
 or a delimited text file (CSV, TSV or whitespace columns: energy in eV,
-then values). --mode says whether values are direct N(E) or derivative
+then one or more value columns, chosen like blocks); or a statemix
+spectrum JSON file. --mode says whether values are direct N(E) or derivative
 dN/dE when the file does not.
 
 The element must have Auger transitions (not H or He), the transition is
@@ -92,9 +93,9 @@ Without --name an entry is named "<element> <state> <transition>"; with
 	f.StringVar(&o.Compound, "compound", "", "compound `FORMULA`, e.g. TiN")
 	f.StringArrayVar(&o.Tags, "tag", nil, "label `KEY=VALUE` (repeatable)")
 	f.StringVar(&o.Note, "note", "", "free `TEXT`")
-	f.IntVar(&o.Block, "block", 0, "take block `N` of an ISO 14976 file (1-based; default: its only block)")
-	f.BoolVar(&o.AllBlocks, "all-blocks", false, "take every block of an ISO 14976 file")
-	f.StringVar(&o.Mode, "mode", "", "values are `direct` or `derivative` (default: what the file says)")
+	f.IntVar(&o.Block, "block", 0, "take spectrum `N` (ISO 14976 block or delimited value column, from 1; default: the only one)")
+	f.BoolVar(&o.AllBlocks, "all-blocks", false, "take every spectrum of the file")
+	f.StringVar(&o.Mode, "mode", "", "values are `MODE` direct or derivative (default: what the file says)")
 	for _, r := range []string{"element", "transition", "state"} {
 		_ = cmd.MarkFlagRequired(r)
 	}
