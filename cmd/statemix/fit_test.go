@@ -7,6 +7,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -161,6 +162,18 @@ func TestFitBadInputExit3(t *testing.T) {
 	writeSpectrumJSON(t, far, 900, 950, func(e float64) float64 { return metalShape(e - 500) }, map[string]string{"state": "metal"})
 	short := filepath.Join(dir, "short.json")
 	writeSpectrumJSON(t, short, 400, 405, metalShape, nil)
+	nan := filepath.Join(dir, "nan.csv")
+	var csv strings.Builder
+	for i := 0; i < 161; i++ {
+		v := "0.01"
+		if i == 50 {
+			v = "NaN"
+		}
+		csv.WriteString(strconv.FormatFloat(360+0.5*float64(i), 'f', 1, 64) + "," + v + "\n")
+	}
+	if err := os.WriteFile(nan, []byte(csv.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
 	nostate := filepath.Join(dir, "nostate.json")
 	writeSpectrumJSON(t, nostate, 350, 450, oxideShape, nil)
 	cases := []struct {
@@ -170,6 +183,7 @@ func TestFitBadInputExit3(t *testing.T) {
 	}{
 		{"no-references", []string{"fit", unknown}, "no references"},
 		{"unknown-all-zero", []string{"fit", zero, "--ref-file", metal, "--ref-file", oxide + ":oxide"}, "zero in every channel"},
+		{"unknown-nan", []string{"fit", nan, "--ref-file", metal, "--ref-file", oxide + ":oxide"}, "not a finite number"},
 		{"reference-twice", []string{"fit", unknown, "--ref-file", metal, "--ref-file", metal}, "given twice"},
 		{"other-energy-range", []string{"fit", unknown, "--ref-file", metal, "--ref-file", far}, "does not overlap"},
 		{"unknown-shorter-than-window", []string{"fit", short, "--ref-file", metal, "--ref-file", oxide + ":oxide"}, "need at least 20"},

@@ -405,3 +405,50 @@ func TestWarnings(t *testing.T) {
 		t.Errorf("good fit warns: %q", w)
 	}
 }
+
+// TestConcurrentFits: one Model fits many spectra at once (as a depth
+// profile or map does) with the same results as one at a time.
+func TestConcurrentFits(t *testing.T) {
+	states := []state{stMetal, stOxide}
+	refs := refsFor(states, 300, 500, 0.5)
+	var us []*lineshape.Spectrum
+	for i := 0; i < 8; i++ {
+		mx := mixture{states: states, coef: []float64{0.1 * float64(i+1), 1 - 0.1*float64(i+1)}, shift: 0.2 * float64(i-4), extra: 1}
+		_, d, dir := mx.clean(320, 470, 0.5)
+		y, _ := noisy(d, dir, 50, false, rand.New(rand.NewPCG(uint64(i), 1)))
+		us = append(us, unknownSpectrum(320, 0.5, y))
+	}
+	m, err := Prepare(us[0], refs, Options{Uncertainty: Covariance})
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := make([]float64, len(us))
+	for i, u := range us {
+		r, err := m.Fit(context.Background(), u)
+		if err != nil {
+			t.Fatal(err)
+		}
+		want[i] = r.Components[0].Fraction
+	}
+	got := make([]float64, len(us))
+	done := make(chan error, len(us))
+	for i, u := range us {
+		go func() {
+			r, err := m.Fit(context.Background(), u)
+			if err == nil {
+				got[i] = r.Components[0].Fraction
+			}
+			done <- err
+		}()
+	}
+	for range us {
+		if err := <-done; err != nil {
+			t.Fatal(err)
+		}
+	}
+	for i := range us {
+		if got[i] != want[i] {
+			t.Errorf("spectrum %d: concurrent fraction %v, sequential %v", i, got[i], want[i])
+		}
+	}
+}
