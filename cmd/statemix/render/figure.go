@@ -256,6 +256,7 @@ func FitFigure(res *fit.Result, title string) *Figure {
 	}
 	bot.Add(Line(cv.Energy, cv.Residual, inkData, 0.8, nil))
 	top.X.Min, top.X.Max = cv.Energy[0], cv.Energy[len(cv.Energy)-1]
+	top.X.Tick.Label.Color = color.Transparent // the residual panel carries the energy labels
 	bot.X.Min, bot.X.Max = top.X.Min, top.X.Max
 	return &Figure{Panels: []Panel{{Plot: top, Weight: 3}, {Plot: bot, Weight: 1.2}}}
 }
