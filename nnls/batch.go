@@ -129,6 +129,7 @@ func (bk *Bank) Dims() (m, n int) { return bk.sys[0].m, bk.sys[0].n }
 // Solve solves the problem of matrix k for b (length m) into dst, as
 // Batch.Solve does.
 func (bk *Bank) Solve(dst *Result, k int, b []float64) error {
+	bk.check(k)
 	sys := bk.sys[k]
 	atb := bk.ws.atb(sys.n)
 	btb := sys.project(atb, b)
@@ -140,10 +141,18 @@ func (bk *Bank) Solve(dst *Result, k int, b []float64) error {
 // residual sum of squares of that shift. With the A_k^T b of all shifts at
 // hand (see Project), scanning the shifts touches no m-length data.
 func (bk *Bank) SolveNormal(dst *Result, k int, atb []float64, btb float64) error {
+	bk.check(k)
 	return bk.ws.solve(bk.sys[k], dst, atb, btb)
 }
 
 // Project sets dst (length n) to A_k^T b and returns b^T b.
 func (bk *Bank) Project(dst []float64, k int, b []float64) float64 {
+	bk.check(k)
 	return bk.sys[k].project(dst, b)
+}
+
+func (bk *Bank) check(k int) {
+	if k < 0 || k >= len(bk.sys) {
+		panic(fmt.Sprintf("nnls: shift %d out of range [0, %d)", k, len(bk.sys)))
+	}
 }

@@ -12,8 +12,9 @@ import (
 )
 
 func TestSolveSmall(t *testing.T) {
-	// Hand-worked cases (from memory of the problem's geometry): with
-	// orthonormal columns the solution is max(A^T b, 0) per column.
+	// Expected values worked by hand: with orthogonal columns the solution
+	// is max(a_j^T b / ||a_j||^2, 0) per column (free: no max); with
+	// A^T b < 0 componentwise, x = 0 satisfies the KKT conditions.
 	for _, tc := range []struct {
 		name string
 		a    []float64
