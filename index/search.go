@@ -233,7 +233,7 @@ func (x *Index) Like(s *lineshape.Spectrum, o LikeOptions) ([]Hit, error) {
 		hit := hitOf(h)
 		hit.Ranked = true
 		hit.Similarity = m.Similarity
-		hit.ShiftEV = m.ShiftEV
+		hit.ShiftEV = math.Round(m.ShiftEV*1000) / 1000 // 0.001 eV: far below what the grid resolves
 		hits = append(hits, hit)
 	}
 	sort.SliceStable(hits, func(i, j int) bool {
