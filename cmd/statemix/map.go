@@ -101,7 +101,7 @@ func runMap(app *App, opts *mapOptions) error {
 	if err := parseFitFlags(&opts.fitOptions); err != nil {
 		return err
 	}
-	if opts.fit.Shift.String() == "each" {
+	if opts.fit.Shift == fit.ShiftEach {
 		return usageErrorf("--shift each: maps fit one common shift per pixel (use common or none)")
 	}
 	if opts.Workers < 0 {

@@ -2,6 +2,7 @@ package main
 
 import (
 	"bytes"
+	"context"
 	"encoding/json"
 	"image/png"
 	"math"
@@ -145,5 +146,21 @@ func TestMapCLIBadInput(t *testing.T) {
 	code, _, stderr = runApp(t, nil, append([]string{"map", cube, "--shift", "each"}, refArgs...)...)
 	if code != exitUsage {
 		t.Errorf("--shift each: exit %d (%s), want 2", code, stderr)
+	}
+}
+
+func TestMapCLIInterrupted(t *testing.T) {
+	cube, refArgs := mapFixture(t, "")
+	out := filepath.Join(t.TempDir(), "m")
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel() // as if Ctrl-C came before the first tile
+	var so, se bytes.Buffer
+	app := &App{In: strings.NewReader(""), Out: &so, Err: &se, Getenv: func(string) string { return "" }, Ctx: ctx}
+	code := app.Execute(append([]string{"map", cube, "--out", out}, refArgs...))
+	if code != exitFailure || !strings.Contains(se.String(), "interrupted: nothing written") {
+		t.Errorf("exit %d, stderr %q", code, se.String())
+	}
+	if _, err := os.Stat(out); !os.IsNotExist(err) {
+		t.Errorf("output folder exists after an interrupted run: %v", err)
 	}
 }

@@ -1,7 +1,9 @@
 package main
 
 import (
+	"context"
 	"encoding/csv"
+	"errors"
 	"encoding/json"
 	"fmt"
 	"io"
@@ -135,6 +137,9 @@ func runProfile(app *App, opts *profileOptions) error {
 		SputterRate: opts.SputterRate, Progress: bar.Func()})
 	bar.Finish()
 	if err != nil {
+		if errors.Is(err, context.Canceled) {
+			return errors.New("profile: interrupted: nothing written")
+		}
 		return fitError(err)
 	}
 	res.Warnings = append(warnings, res.Warnings...)

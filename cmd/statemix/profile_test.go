@@ -1,6 +1,8 @@
 package main
 
 import (
+	"bytes"
+	"context"
 	"encoding/json"
 	"fmt"
 	"math"
@@ -207,5 +209,21 @@ func TestProfileCLIBadInput(t *testing.T) {
 	code, _, stderr := runApp(t, nil, append([]string{"profile", dir, "--sputter-rate", "-1"}, refArgs...)...)
 	if code != exitUsage {
 		t.Errorf("negative rate: exit %d (%s), want 2", code, stderr)
+	}
+}
+
+func TestProfileCLIInterrupted(t *testing.T) {
+	dir, refArgs := profileFixture(t, nil)
+	csvPath := filepath.Join(t.TempDir(), "p.csv")
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	var so, se bytes.Buffer
+	app := &App{In: strings.NewReader(""), Out: &so, Err: &se, Getenv: func(string) string { return "" }, Ctx: ctx}
+	code := app.Execute(append([]string{"profile", dir, "--csv", csvPath}, refArgs...))
+	if code != exitFailure || !strings.Contains(se.String(), "interrupted: nothing written") {
+		t.Errorf("exit %d, stderr %q", code, se.String())
+	}
+	if _, err := os.Stat(csvPath); !os.IsNotExist(err) {
+		t.Errorf("csv written by an interrupted run")
 	}
 }
