@@ -13,7 +13,21 @@ func newRootCmd(app *App) *cobra.Command {
 unknown spectra into nonnegative combinations of them (NNLS with energy-shift
 alignment), reports each chemical state's fraction with an uncertainty, and does
 the same for every step of a sputter depth profile and every pixel of a
-spectrum image.`,
+spectrum image.
+
+Start with statemix demo, which runs the whole workflow on invented data.`,
+		Example: `  # The whole workflow on invented, synthetic data
+  statemix demo
+
+  # Build a library from your standards
+  statemix library init
+  statemix library add ti-foil.vms --element Ti --transition L3M23M45 --state metal --name "Ti foil"
+  statemix library add tin-film.vms --element Ti --transition L3M23M45 --state nitride --name "TiN film"
+
+  # Fit an unknown, then a depth profile and a spectrum image
+  statemix fit spot1.vms --refs "Ti foil","TiN film" --report spot1.html
+  statemix profile depth.vms --refs "Ti foil","TiN film" --sputter-rate 2.5
+  statemix map area7.npy --refs "Ti foil","TiN film" --out area7-maps`,
 		SilenceUsage:  true,
 		SilenceErrors: true,
 	}

@@ -42,6 +42,17 @@ FILE: the maximum normalised correlation over energy shifts within +/-5 eV
 on a common 0.5 eV grid in derivative mode (lock-in emulation where modes
 differ), reporting the similarity and the best shift (positive: FILE lies
 at higher energy). A QUERY given with --like restricts the candidates.`,
+		Example: `  # Titanium nitride references that mention a diffusion barrier
+  statemix search 'element:Ti state:nitride "diffusion barrier"'
+
+  # The five entries whose lineshape is most like an unknown spectrum
+  statemix search --like spot1.vms --top 5
+
+  # Only oxide references, ranked by similarity, as JSON for a script
+  statemix search --like spot1.vms 'state:oxide' --json
+
+  # The fields a query can use
+  statemix search --fields`,
 		Args: cobra.MaximumNArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			if len(args) == 1 {

@@ -16,8 +16,12 @@ func newVersionCmd(app *App) *cobra.Command {
 	return &cobra.Command{
 		Use:   "version",
 		Short: "Print the statemix version",
-		Long:  "Print the statemix version, the Go version it was built with and the source revision when known.",
-		Args:  cobra.NoArgs,
+		Long: `Print the statemix version, the Go version it was built with and the
+source revision (the git commit) when the binary was built from a checkout.
+Quote it when you report a problem or archive a result.`,
+		Example: `  statemix version
+  statemix version --json`,
+		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			return runVersion(app)
 		},
