@@ -71,21 +71,46 @@ var elementPeaks = map[string][]peak{
 	"C":  {{272, 1, 3.5}},
 }
 
-var stateShift = map[string]struct{ dE, width float64 }{
-	"metal": {0, 1}, "oxide": {-4, 1.35}, "nitride": {-2, 1.2}, "carbide": {-1, 1.1},
+// stateShape changes a lineshape per chemical state: a chemical shift of
+// the main peaks, a broadening, and a satellite of the state's own at an
+// offset from the first peak (real oxide, nitride and carbide spectra
+// differ in such loss and satellite structure). Invented for tests.
+var stateShape = map[string]struct{ dE, width, satE, satA float64 }{
+	"metal":   {0, 1, 0, 0},
+	"oxide":   {-4, 1.4, -12, 0.35},
+	"nitride": {-2, 1.25, 8, 0.3},
+	"carbide": {-1, 0.85, -6, 0.3},
 }
 
-// synthEntry makes an entry of element el in state st, variant v (a small
-// change of relative heights so variants differ), as a library.Store would
-// get from library add.
-func synthEntry(el, st string, v int, name string) *library.Entry {
+// entryPeaks returns the peaks of element el in state st, variant v: the
+// variant changes relative heights and widths and adds a weak satellite at
+// a variant-dependent offset, so that no two entries are the same shape
+// merely shifted (which no similarity measure over shifts could tell
+// apart).
+func entryPeaks(el, st string, v int) []peak {
 	ps := elementPeaks[el]
-	sh := stateShift[st]
+	sh := stateShape[st]
 	var q []peak
-	lo, hi := math.Inf(1), math.Inf(-1)
 	for i, p := range ps {
 		a := p.A * (1 + 0.15*float64(v%4)*float64(i%2*2-1))
-		q = append(q, peak{p.E + sh.dE + 0.3*float64(v%3), a, p.Sigma * sh.width})
+		w := p.Sigma * sh.width * (1 + 0.1*float64(v%3))
+		q = append(q, peak{p.E + sh.dE + 0.3*float64(v%3), a, w})
+	}
+	if sh.satA > 0 {
+		q = append(q, peak{ps[0].E + sh.dE + sh.satE, sh.satA * ps[0].A, 2})
+	}
+	if v > 0 {
+		q = append(q, peak{ps[0].E + 15 + 4*float64(v%5), 0.2 * ps[0].A, 1.5 + 0.5*float64(v%2)})
+	}
+	return q
+}
+
+// synthEntry makes an entry of element el in state st, variant v, as a
+// library.Store would get from library add.
+func synthEntry(el, st string, v int, name string) *library.Entry {
+	q := entryPeaks(el, st, v)
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, p := range elementPeaks[el] {
 		lo, hi = math.Min(lo, p.E), math.Max(hi, p.E)
 	}
 	s := synthDerivative(math.Max(40, lo-45), hi+35, 0.5, q, 0, 1)
