@@ -217,7 +217,11 @@ type plan struct {
 	shifts   []float64   // grid, eV
 	h        float64     // grid step, eV (0 for a single shift)
 	tables   [][]float64 // [ref*S+shift] sampled shifted reference, length n
+	curves   []*lineshape.Curve
+	step     float64     // channel step, eV
 	basis    [][]float64 // background columns, length n
+	free     []bool      // k+q: background columns are free
+	bgram    []float64   // q*q: dot products of the background columns
 	bank     *nnls.Bank
 	warnings []string
 }
@@ -303,6 +307,7 @@ func newPlan(cube Cube, refs []fit.Reference, opts MapOptions) (*plan, error) {
 			}
 		}
 		cv := s.Curve()
+		pl.curves = append(pl.curves, cv)
 		for j, d := range pl.shifts {
 			t := make([]float64, pl.n)
 			cv.SampleShifted(t, pl.window[0], ax.Step, d)
@@ -311,6 +316,12 @@ func newPlan(cube Cube, refs []fit.Reference, opts MapOptions) (*plan, error) {
 	}
 	pl.basis = legendre(pl.n, ro.BackgroundDegree())
 	pl.q = len(pl.basis)
+	pl.bgram = make([]float64, pl.q*pl.q)
+	for a := range pl.q {
+		for b := range pl.q {
+			pl.bgram[a*pl.q+b] = dot(pl.basis[a], pl.basis[b])
+		}
+	}
 	ncol := pl.k + pl.q
 	as := make([]*mat.Dense, S)
 	for j := range pl.shifts {
@@ -327,6 +338,7 @@ func newPlan(cube Cube, refs []fit.Reference, opts MapOptions) (*plan, error) {
 	for b := range pl.q {
 		free[pl.k+b] = true
 	}
+	pl.free, pl.step = free, ax.Step
 	pl.bank, err = nnls.NewBank(as, free, nnls.Settings{})
 	if err != nil {
 		var re *nnls.RankError
@@ -337,6 +349,9 @@ func newPlan(cube Cube, refs []fit.Reference, opts MapOptions) (*plan, error) {
 	}
 	return pl, nil
 }
+
+// basisGram returns the dot product of background columns a and b.
+func (pl *plan) basisGram(a, b int) float64 { return pl.bgram[a*pl.q+b] }
 
 // legendre returns the Legendre polynomials P_0..P_deg of
 // t = 2 i/(n-1) - 1 on n channels (none for deg < 0), the background
@@ -374,16 +389,103 @@ type pixelWorker struct {
 	best  []float64 // k+q: coefficients at the best shift
 	res   nnls.Result
 	r     []float64 // n: residual
+
+	// Solve at the refined shift.
+	cols  [][]float64 // k+q columns, length n: refs at the shift, then the basis
+	gram  []float64   // (k+q)^2 Gram matrix, then its Cholesky factor
+	c     []float64   // k+q: L^-1 A^T b
+	small *mat.Dense  // (k+q)^2: L^T, the equivalent small problem
+	sv    nnls.Solver
+	sres  nnls.Result
 }
 
 func (pl *plan) newPixelWorker() *pixelWorker {
 	S := len(pl.shifts)
-	return &pixelWorker{
+	p := pl.k + pl.q
+	w := &pixelWorker{
 		pl: pl, bank: pl.bank.Clone(),
-		atb: make([]float64, pl.k+pl.q), bgAtb: make([]float64, pl.q),
+		atb: make([]float64, p), bgAtb: make([]float64, pl.q),
 		refs: make([]float64, pl.k*S), rss: make([]float64, S),
-		best: make([]float64, pl.k+pl.q), r: make([]float64, pl.n),
+		best: make([]float64, p), r: make([]float64, pl.n),
+		cols: make([][]float64, p), gram: make([]float64, p*p), c: make([]float64, p),
+		small: mat.NewDense(p, p, nil),
 	}
+	for i := range pl.k {
+		w.cols[i] = make([]float64, pl.n)
+	}
+	copy(w.cols[pl.k:], pl.basis)
+	return w
+}
+
+// solveAt solves the pixel's NNLS problem with the references sampled at
+// shift d (eV) from their curves, as package fit does: the Gram matrix of
+// the columns is factored by Cholesky, L L^T, and the equivalent small
+// problem min ||L^T x - L^-1 A^T b|| goes to nnls.Solver. It leaves the
+// solution in w.best and reports false if the Gram matrix is not positive
+// definite or the solver fails.
+func (w *pixelWorker) solveAt(b []float64, d float64) bool {
+	pl := w.pl
+	k, p := pl.k, pl.k+pl.q
+	for i := range k {
+		pl.curves[i].SampleShifted(w.cols[i], pl.window[0], pl.step, d)
+		w.atb[i] = dot(w.cols[i], b)
+	}
+	copy(w.atb[k:], w.bgAtb)
+	g := w.gram
+	for i := range p {
+		for j := 0; j <= i; j++ {
+			if i >= k && j >= k {
+				g[i*p+j] = pl.basisGram(i-k, j-k)
+			} else {
+				g[i*p+j] = dot(w.cols[i], w.cols[j])
+			}
+		}
+	}
+	// In-place lower Cholesky factor of g.
+	for j := range p {
+		v := g[j*p+j]
+		for l := range j {
+			v -= g[j*p+l] * g[j*p+l]
+		}
+		if !(v > 0) {
+			return false
+		}
+		ljj := math.Sqrt(v)
+		g[j*p+j] = ljj
+		for i := j + 1; i < p; i++ {
+			u := g[i*p+j]
+			for l := range j {
+				u -= g[i*p+l] * g[j*p+l]
+			}
+			g[i*p+j] = u / ljj
+		}
+	}
+	// c = L^-1 A^T b by forward substitution.
+	for i := range p {
+		v := w.atb[i]
+		for l := range i {
+			v -= g[i*p+l] * w.c[l]
+		}
+		w.c[i] = v / g[i*p+i]
+	}
+	raw := w.small.RawMatrix()
+	for i := range p {
+		for j := range p {
+			v := 0.0
+			if j >= i {
+				v = g[j*p+i] // (L^T)_ij = L_ji
+			}
+			raw.Data[i*raw.Stride+j] = v
+		}
+	}
+	if err := w.sv.Solve(&w.sres, w.small, w.c, pl.free); err != nil {
+		var ce *nnls.ConvergenceError
+		if !errors.As(err, &ce) {
+			return false
+		}
+	}
+	copy(w.best, w.sres.X)
+	return true
 }
 
 // fit fits one pixel spectrum (all cube channels) into pixel p of res. It
@@ -435,7 +537,18 @@ func (w *pixelWorker) fit(spec []float64, res *MapResult, p int) bool {
 			shift += d * pl.h
 		}
 	}
-	// Residual at the best grid point, for the RSS and the noise.
+	// Coefficients at the refined shift; the grid solution stands if that
+	// solve fails or the shift was not refined.
+	cols := func(i int) []float64 { return pl.tables[i*S+bestK] }
+	if shift != pl.shifts[bestK] {
+		grid := append(w.r[:0], w.best...) // w.r is free until the residual
+		if w.solveAt(b, shift) {
+			cols = func(i int) []float64 { return w.cols[i] }
+		} else {
+			copy(w.best, grid)
+		}
+	}
+	// Residual, for the RSS and the noise.
 	r := w.r
 	copy(r, b)
 	nz := 0
@@ -445,7 +558,7 @@ func (w *pixelWorker) fit(spec []float64, res *MapResult, p int) bool {
 		if c > 0 {
 			nz++
 			sum += c
-			axpy(-c, pl.tables[i*S+bestK], r)
+			axpy(-c, cols(i), r)
 		}
 	}
 	for j := range q {

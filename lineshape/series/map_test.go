@@ -297,3 +297,100 @@ func TestFractionNames(t *testing.T) {
 		t.Errorf("names %q, want %q", got, want)
 	}
 }
+
+// TestMapAgreesWithFit checks the map path against fit.Model.Fit on single
+// pixels, for a direct cube and for a derivative cube fitted with direct
+// references (converted by lock-in emulation as fit.Prepare converts them).
+func TestMapAgreesWithFit(t *testing.T) {
+	for _, deriv := range []bool{false, true} {
+		sm := newSynthMap(6, 6, 300, 1.5, 0.002, 13)
+		cube := sm.cube
+		refs := testRefs(3)
+		if deriv {
+			// Derivative cube: every pixel through LockIn at 2 eV.
+			dc := *cube
+			dc.Values = make([]float64, len(cube.Values))
+			dc.SpectrumMode = lineshape.Derivative
+			for p := 0; p < 36; p++ {
+				s := &lineshape.Spectrum{Axis: cube.EnergyAxis, Y: cube.Values[p*300 : (p+1)*300], Mode: lineshape.Direct}
+				d, err := s.LockIn(2)
+				if err != nil {
+					t.Fatal(err)
+				}
+				copy(dc.Values[p*300:], d.Y)
+			}
+			cube = &dc
+		}
+		fo := fit.Options{MaxShift: 2, Uncertainty: fit.Covariance, Modulation: 2}
+		res, err := Map(context.Background(), cube, refs, MapOptions{Fit: fo})
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, p := range []int{0, 14, 35} {
+			s := &lineshape.Spectrum{Axis: cube.EnergyAxis, Y: cube.Values[p*300 : (p+1)*300], Mode: cube.SpectrumMode}
+			s.Meta.ModulationEV = 2
+			m, err := fit.Prepare(s, refs, fo)
+			if err != nil {
+				t.Fatal(err)
+			}
+			fr, err := m.Fit(context.Background(), s)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if m.Window() != res.Window {
+				t.Fatalf("deriv=%v: map window %v, fit window %v", deriv, res.Window, m.Window())
+			}
+			// The map solves at the parabola-refined shift, the fit at the
+			// Brent-refined one; they differ by the parabola's error (under
+			// 0.01 eV without noise, doc.go), which moves fractions by less
+			// than 0.003 here, and the reduced chi-square by a few per cent.
+			for i, c := range fr.Components {
+				if d := math.Abs(res.Fractions[i][p] - c.Fraction); d > 0.003 {
+					t.Errorf("deriv=%v pixel %d %s: map fraction %.4f, fit %.4f", deriv, p, c.State, res.Fractions[i][p], c.Fraction)
+				}
+			}
+			if d := math.Abs(res.Shift[p] - fr.Components[0].Shift); d > 0.01 {
+				t.Errorf("deriv=%v pixel %d: map shift %.4f eV, fit %.4f eV", deriv, p, res.Shift[p], fr.Components[0].Shift)
+			}
+			if d := math.Abs(res.Chi2[p]-fr.Quality.Chi2Reduced) / fr.Quality.Chi2Reduced; d > 0.05 {
+				t.Errorf("deriv=%v pixel %d: map chi2 %.4g, fit %.4g", deriv, p, res.Chi2[p], fr.Quality.Chi2Reduced)
+			}
+		}
+	}
+}
+
+func TestCubeFromSpectra(t *testing.T) {
+	sm := newSynthMap(3, 4, 300, 1, 0.01, 5)
+	var specs []*lineshape.Spectrum
+	for p := 11; p >= 0; p-- { // any order
+		s, err := lineshape.NewUniform(320, 0.5, append([]float64(nil), sm.cube.Values[p*300:(p+1)*300]...), lineshape.Direct)
+		if err != nil {
+			t.Fatal(err)
+		}
+		x, y := p%4, p/4
+		s.Meta.PixelX, s.Meta.PixelY = &x, &y
+		specs = append(specs, s)
+	}
+	c, err := CubeFromSpectra(specs, "map.vms")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if c.Height != 3 || c.Width != 4 {
+		t.Fatalf("%d x %d", c.Width, c.Height)
+	}
+	for i, v := range c.Values {
+		if v != sm.cube.Values[i] {
+			t.Fatalf("value %d: %v, want %v", i, v, sm.cube.Values[i])
+		}
+	}
+	x := 1
+	specs[3].Meta.PixelX = &x // now pixel (1, y) is given twice
+	if _, err := CubeFromSpectra(specs, "map.vms"); err == nil || !strings.Contains(err.Error(), "map.vms") {
+		t.Errorf("duplicate pixel: err = %v", err)
+	}
+	specs[3].Meta.PixelX = nil
+	var ie *lineshape.InputError
+	if _, err := CubeFromSpectra(specs, "map.vms"); !errors.As(err, &ie) || ie.Block != 3 {
+		t.Errorf("no position: err = %v, want block 4 named", err)
+	}
+}
