@@ -241,8 +241,17 @@ func runDemo(app *App, opts *demoOptions) (*demoSummary, error) {
 	if err := os.MkdirAll(filepath.Join(dir, "reports"), 0o755); err != nil {
 		return nil, fmt.Errorf("demo: %w", err)
 	}
-	fmt.Fprintf(w, "Synthetic files written there: 5 standards (%s, %s, %s as ISO 14976;\n%s, %s as CSV), 2 unknown spots, a %d-step depth profile, a %d x %d\nspectrum image (%s with its .json sidecar).\n",
-		files.TiFoil, files.TiN, files.TiO2, files.AlFoil, files.Al2O3, truth.ProfileSteps, truth.MapW, truth.MapH, files.Map)
+	fmt.Fprintln(w, "Synthetic files written there:")
+	for _, l := range [][2]string{
+		{files.TiFoil + ", " + files.TiN + ",", ""},
+		{files.TiO2, "Ti LMM standards (ISO 14976, derivative)"},
+		{files.AlFoil + ", " + files.Al2O3, "Al KLL standards (CSV, direct)"},
+		{files.Barrier + ", " + files.Pad, "the barrier and pad spots (ISO 14976)"},
+		{files.Profile, fmt.Sprintf("a %d-step depth profile (ISO 14976)", truth.ProfileSteps)},
+		{files.Map, fmt.Sprintf("a %d x %d spectrum image (.npy and .json sidecar)", truth.MapW, truth.MapH)},
+	} {
+		fmt.Fprintf(w, "  %-48s %s\n", l[0], l[1])
+	}
 	fmt.Fprintf(w, "\nThe commands below run in that folder with STATEMIX_LIBRARY=%s:\n", d.lib)
 
 	sum := &demoSummary{Dir: dir, Library: d.lib, Truth: truth}
@@ -425,7 +434,7 @@ func writeDemoFractions(w io.Writer, sample string, fs []demoFraction, truth map
 			found = found || f.State == st
 		}
 		if !found {
-			fmt.Fprintf(w, "  %s %s not-fitted (not among the references)  planted %.3f\n", sample, st, truth[st])
+			fmt.Fprintf(w, "  %s %s not chosen  planted %.3f\n", sample, st, truth[st])
 		}
 	}
 }

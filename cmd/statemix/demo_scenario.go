@@ -54,8 +54,8 @@ var (
 	demoTiO2 = demoState{
 		Lines: []demoLine{
 			{E0: 380.5, Area: 2.0e5, Sigma: 2.6, Tail: 3.2}, // L3M23M23
-			{E0: 405.0, Area: 1.3e5, Sigma: 2.6, Tail: 3.0}, // L3M23V, split by the O 2p band
-			{E0: 410.0, Area: 1.1e5, Sigma: 2.0, Tail: 2.5},
+			{E0: 405.0, Area: 1.0e5, Sigma: 2.6, Tail: 3.0}, // L3M23V, split by the O 2p band
+			{E0: 410.0, Area: 1.7e5, Sigma: 1.9, Tail: 2.5},
 		},
 		Losses: []demoLoss{{Delta: 13.5, Rel: 0.14, Width: 5, Order: 1}}, // interband loss
 		Step:   0.0035,
