@@ -83,6 +83,7 @@ type demoInterface struct {
 // demoSummary is what the demo found, built from the commands' JSON
 // documents; the closing text of the demo is printed from it.
 type demoSummary struct {
+	Schema  string         `json:"schema"` // statemix.demo/v1
 	Dir     string         `json:"dir"`
 	Library string         `json:"library"`
 	Barrier []demoFraction `json:"barrier"`
@@ -94,7 +95,7 @@ type demoSummary struct {
 	MapMean          map[string]float64 `json:"map_mean"`
 	Outputs          []string           `json:"outputs"` // figures, reports, maps (relative to Dir)
 	Seconds          float64            `json:"seconds"`
-	Truth            *demoTruth         `json:"-"`
+	Truth            *demoTruth         `json:"truth"`
 }
 
 // demoRun runs statemix commands for the demo, in-process, against the
@@ -103,7 +104,8 @@ type demoRun struct {
 	app   *App
 	dir   string
 	lib   string
-	extra []string // --quiet / --no-progress passed on
+	extra []string  // --quiet / --no-progress passed on
+	out   io.Writer // where the narrative goes
 }
 
 // exec runs the command line args (paths relative to the demo folder are
@@ -125,7 +127,7 @@ func (d *demoRun) exec(show bool, args ...string) (string, error) {
 		full = append(full, d.abs(a))
 	}
 	full = append(full, d.extra...)
-	w := d.app.Out
+	w := d.out
 	if show {
 		q := make([]string, len(args))
 		for i, a := range args {
@@ -223,7 +225,13 @@ func runDemo(app *App, opts *demoOptions) (*demoSummary, error) {
 	if app.NoProgress {
 		d.extra = append(d.extra, "--no-progress")
 	}
+	// With --json the narrative is left out and the summary is printed as
+	// a statemix.demo/v1 document at the end.
 	w := app.Out
+	if app.JSON {
+		w = io.Discard
+	}
+	d.out = w
 	fmt.Fprint(w, demoIntro)
 	fmt.Fprintf(w, "\nWorking folder: %s\n", dir)
 
@@ -254,7 +262,7 @@ func runDemo(app *App, opts *demoOptions) (*demoSummary, error) {
 	}
 	fmt.Fprintf(w, "\nThe commands below run in that folder with STATEMIX_LIBRARY=%s:\n", d.lib)
 
-	sum := &demoSummary{Dir: dir, Library: d.lib, Truth: truth}
+	sum := &demoSummary{Schema: "statemix.demo/v1", Dir: dir, Library: d.lib, Truth: truth}
 
 	// 1. The library of standards.
 	if _, err := d.exec(true, "library", "init"); err != nil {
@@ -358,6 +366,9 @@ func runDemo(app *App, opts *demoOptions) (*demoSummary, error) {
 	}
 
 	sum.Seconds = time.Since(start).Seconds()
+	if app.JSON {
+		return sum, writeJSON(app.Out, sum)
+	}
 	writeDemoSummary(w, sum)
 	return sum, nil
 }

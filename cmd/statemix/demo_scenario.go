@@ -93,20 +93,24 @@ const demoTakeOffDeg = 45.0
 // comparison and its test checks against.
 type demoTruth struct {
 	// Barrier spot B2: fraction of pure-standard signal per state.
-	Barrier map[string]float64
+	Barrier map[string]float64 `json:"barrier"`
 	// Pad P3: fractions, and the oxide thickness in nm that gave them.
-	Pad         map[string]float64
-	PadOxideNM  float64
-	PadLambdaNM float64 // TPP-2M IMFP of Al2O3 used for the attenuation
+	Pad         map[string]float64 `json:"pad"`
+	PadOxideNM  float64            `json:"pad_oxide_nm"`
+	PadLambdaNM float64            `json:"pad_lambda_nm"` // TPP-2M IMFP of Al2O3 used for the attenuation
 	// Depth profile: oxide over nitride, the interface depth (50 %
 	// crossing) and the 16-84 % width (2 sigma of the Gaussian broadening).
-	InterfaceNM, InterfaceWidthNM, SputterRateNMPerMin float64
-	ProfileSteps                                       int
+	InterfaceNM         float64 `json:"interface_nm"`
+	InterfaceWidthNM    float64 `json:"interface_width_nm"`
+	SputterRateNMPerMin float64 `json:"sputter_rate_nm_per_min"`
+	ProfileSteps        int     `json:"profile_steps"`
 	// Map: mean fraction per state over the image and the planted field.
-	MapMean                map[string]float64
-	MapW, MapH             int
-	MapOxide               []float64 // planted oxide fraction per pixel, row-major
-	MapShiftLo, MapShiftHi float64
+	MapMean    map[string]float64 `json:"map_mean"`
+	MapW       int                `json:"map_width"`
+	MapH       int                `json:"map_height"`
+	MapOxide   []float64          `json:"-"` // planted oxide fraction per pixel, row-major
+	MapShiftLo float64            `json:"map_shift_lo_ev"`
+	MapShiftHi float64            `json:"map_shift_hi_ev"`
 }
 
 // demoFiles are the paths of what the synthesis wrote, relative to the demo

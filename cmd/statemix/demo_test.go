@@ -3,6 +3,7 @@ package main
 import (
 	"bufio"
 	"bytes"
+	"encoding/json"
 	"math"
 	"os"
 	"path/filepath"
@@ -218,15 +219,29 @@ func TestDemo(t *testing.T) {
 		t.Error("pad-P3.html has no inline SVG figure or no reference names")
 	}
 
-	// Same seeds, same results: a second run in another folder.
-	sum2, _, _ := runDemoIn(t, filepath.Join(t.TempDir(), "again"))
+	// Same seeds, same results: a second run in another folder, through the
+	// command line with --json (the statemix.demo/v1 summary alone).
+	code, jout, jerr := runApp(t, nil, "--json", "demo", "--dir", filepath.Join(t.TempDir(), "again"))
+	if code != exitOK {
+		t.Fatalf("demo --json: exit %d: %s", code, jerr)
+	}
+	var sum2 demoSummary
+	if err := json.Unmarshal([]byte(jout), &sum2); err != nil {
+		t.Fatalf("demo --json: %v\n%s", err, jout)
+	}
+	if sum2.Schema != "statemix.demo/v1" || sum2.Truth == nil || sum2.Truth.PadOxideNM != tr.PadOxideNM {
+		t.Errorf("demo --json: schema %q, truth %+v", sum2.Schema, sum2.Truth)
+	}
+	if len(sum2.Barrier) != len(sum.Barrier) {
+		t.Fatalf("second run: %d barrier components, first %d", len(sum2.Barrier), len(sum.Barrier))
+	}
 	for i := range sum.Barrier {
 		if sum.Barrier[i] != sum2.Barrier[i] {
 			t.Errorf("second run: barrier %+v, first %+v", sum2.Barrier[i], sum.Barrier[i])
 		}
 	}
-	if sum.PadThicknessNM != sum2.PadThicknessNM {
-		t.Errorf("second run: pad oxide %v nm, first %v nm", sum2.PadThicknessNM, sum.PadThicknessNM)
+	if sum.PadThicknessNM != sum2.PadThicknessNM || sum.MapMean["oxide"] != sum2.MapMean["oxide"] {
+		t.Errorf("second run: pad oxide %v nm, map oxide %v; first %v nm, %v", sum2.PadThicknessNM, sum2.MapMean["oxide"], sum.PadThicknessNM, sum.MapMean["oxide"])
 	}
 }
 
