@@ -276,18 +276,27 @@ func (s *Store) Import(r io.Reader, opts ImportOptions) (*ImportResult, error) {
 	if err != nil {
 		return nil, err
 	}
-	existing, _ := s.Entries()
-	byID := map[string]*Entry{}
-	names := map[string]string{}
-	for _, x := range existing {
-		byID[x.ID] = x
-		names[x.Name] = x.ID
+	c := s.writerCatalog(m, false)
+	byID := map[string]*Entry{} // entries of the bundle (and the library entries they match)
+	names := map[string]string{} // names taken by the bundle
+	taken := func(n string) (string, bool) {
+		if id, ok := names[n]; ok {
+			return id, true
+		}
+		return c.nameOwner(n, "")
 	}
 	res := &ImportResult{Renamed: map[string]string{}, Revision: m.Revision}
 	var toAdd []*Entry
 	var clashes []string
 	for _, e := range bentries {
-		if x, ok := byID[e.ID]; ok {
+		x, ok := byID[e.ID]
+		if !ok {
+			if row, in := c.row(e.ID); in {
+				// An unreadable file is replaced by the bundle's copy.
+				x, _ = ReadEntryFile(s.entryPath(row.Kind, row.ID))
+			}
+		}
+		if x != nil {
 			if sameEntry(x, e) {
 				res.Skipped = append(res.Skipped, x)
 				continue
@@ -295,9 +304,8 @@ func (s *Store) Import(r io.Reader, opts ImportOptions) (*ImportResult, error) {
 			clashes = append(clashes, fmt.Sprintf("%s (%q) is in the library with different labels", e.ID, x.Name))
 			continue
 		}
-		if _, ok := names[e.Name]; ok {
+		if owner, ok := taken(e.Name); ok {
 			if !opts.Rename {
-				owner := names[e.Name]
 				if owner == "" {
 					owner = "another entry of the bundle"
 				}
@@ -307,7 +315,7 @@ func (s *Store) Import(r io.Reader, opts ImportOptions) (*ImportResult, error) {
 			base := e.Name
 			n := base
 			for i := 2; ; i++ {
-				if _, ok := names[n]; !ok {
+				if _, ok := taken(n); !ok {
 					break
 				}
 				n = fmt.Sprintf("%s (%d)", base, i)
@@ -332,14 +340,14 @@ func (s *Store) Import(r io.Reader, opts ImportOptions) (*ImportResult, error) {
 	}
 	rev := m.Revision + 1
 	t := s.now().UTC()
-	known := existing
-	for _, e := range toAdd {
+	rows := make([]catRow, len(toAdd))
+	for i, e := range toAdd {
 		e.Revision = rev
+		rows[i] = rowOf(e)
 		res.Warnings = append(res.Warnings, intrinsicWarnings(e)...)
-		res.Warnings = append(res.Warnings, duplicateWarnings(e, known)...)
-		known = append(known[:len(known):len(known)], e)
+		res.Warnings = append(res.Warnings, s.dupWarnings(e, &rows[i], c, toAdd[:i], rows[:i])...)
 	}
-	if err := s.writeNew(m, rev, t, toAdd); err != nil {
+	if err := s.writeNew(m, rev, t, toAdd, c.with(rev, nil, rows)); err != nil {
 		return nil, err
 	}
 	res.Added = toAdd

@@ -312,8 +312,18 @@ func TestVerifyReportsHandEdits(t *testing.T) {
 		t.Fatal(err)
 	}
 	msgs := fmt.Sprint(rep.Problems)
-	if problemCodes(rep) != ProblemSchema+","+ProblemSchema || !strings.Contains(msgs, "plasma") || !strings.Contains(msgs, `"stat"`) {
+	// The state edited by hand also leaves the catalogue stale (it still
+	// says metal); the misspelt field changes no catalogued label.
+	if problemCodes(rep) != ProblemSchema+","+ProblemSchema+","+ProblemCatalog || !strings.Contains(msgs, "plasma") ||
+		!strings.Contains(msgs, `"stat"`) || !strings.Contains(msgs, added[0].ID) {
 		t.Errorf("hand edits: %+v", rep.Problems)
+	}
+	rep, err = s.Verify(VerifyOptions{Repair: true})
+	if err != nil || problemCodes(rep) != ProblemSchema+","+ProblemSchema+","+ProblemCatalog || !rep.Problems[2].Repaired {
+		t.Errorf("repair should rebuild the catalogue: %+v %v", rep, err)
+	}
+	if rep, err = s.Verify(VerifyOptions{}); err != nil || problemCodes(rep) != ProblemSchema+","+ProblemSchema {
+		t.Errorf("after repair: %+v %v", rep, err)
 	}
 	if n := countEntries(t, s); n != 2 {
 		t.Errorf("hand-edited entries should stay readable: %d", n)

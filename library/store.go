@@ -57,6 +57,9 @@ type manifest struct {
 	// dropped: Changes is complete for every revision above it.
 	ChangesFrom int      `json:"changes_from"`
 	Changes     []Change `json:"changes"`
+	// Catalog is the SHA-256 (hex) of the catalogue (catalog.tsv) written
+	// with this manifest; empty when a version without catalogue wrote it.
+	Catalog string `json:"catalog_sha256,omitempty"`
 }
 
 // Store is an open library. Its methods are safe for concurrent use by
@@ -104,7 +107,7 @@ func Create(dir string) (*Store, error) {
 	}
 	t := s.now().UTC()
 	s.man = manifest{Format: manifestFormat, Version: manifestVersion, CreatedAt: t, ModifiedAt: t, Changes: []Change{}}
-	if err := s.writeManifest(&s.man); err != nil {
+	if err := s.writeManifestCatalog(&s.man, newCatalog(0, nil)); err != nil {
 		return nil, err
 	}
 	if err := syncDir(dir); err != nil {
@@ -227,6 +230,22 @@ func (s *Store) writeManifest(m *manifest) error {
 		return err
 	}
 	return writeFileAtomic(filepath.Join(s.dir, manifestName), append(b, '\n'))
+}
+
+// writeManifestCatalog writes m, recording the digest of catalogue c, and
+// then c. The manifest goes first: if the catalogue write fails or is
+// interrupted, the manifest's digest no longer matches the catalogue file,
+// readers fall back to reading the entry files and the next writer (or
+// verify --repair) writes a fresh catalogue. Only a failed manifest write
+// is an error.
+func (s *Store) writeManifestCatalog(m *manifest, c *catalog) error {
+	c.Revision = m.Revision
+	cb := catalogBytes(m, c)
+	if err := s.writeManifest(m); err != nil {
+		return err
+	}
+	writeFileAtomic(filepath.Join(s.dir, catalogName), cb)
+	return nil
 }
 
 // entryPath returns the file of entry id of kind k.
@@ -382,9 +401,11 @@ func sortEntries(es []*Entry) {
 // unique ID prefix of at least 4 characters. An ambiguous prefix or name
 // is an *AmbiguousError listing the IDs; no match a *NotFoundError.
 //
-// Only the names and ids of the other entries are read (a full id needs
-// no scan at all), so resolving is cheap in a large library. An entry
-// file that cannot be read does not take part.
+// A full id is read directly; a name or prefix is looked up in the
+// catalogue (see catalog.go), and only the one entry file is read. Without
+// a usable catalogue (an older version wrote the library, or a write was
+// interrupted) the names and ids of all entry files are read instead. An
+// entry file that cannot be read does not take part.
 func (s *Store) Resolve(ref string) (*Entry, error) {
 	r := strings.TrimSpace(ref)
 	if isID(r) {
@@ -397,6 +418,16 @@ func (s *Store) Resolve(ref string) (*Entry, error) {
 				return nil, err
 			}
 		}
+	}
+	if c := s.readerCatalog(); c != nil {
+		row, err := c.resolve(ref)
+		if err != nil {
+			return nil, err
+		}
+		if e, ok := s.readRowEntry(row); ok {
+			return e, nil
+		}
+		// The file changed after the catalogue was read: scan.
 	}
 	heads := s.heads()
 	h, err := resolveIn(heads, ref)
@@ -532,33 +563,35 @@ func (s *Store) Add(es ...*Entry) ([]*Entry, []Warning, error) {
 	if err != nil {
 		return nil, nil, err
 	}
-	existing, _ := s.Entries()
-	if err := s.checkNew(es, existing); err != nil {
+	c := s.writerCatalog(m, false)
+	if err := s.checkNew(es, c); err != nil {
 		return nil, nil, err
 	}
 	rev := m.Revision + 1
 	t := s.now().UTC()
-	known := existing
-	for _, e := range es {
+	rows := make([]catRow, len(es))
+	for i, e := range es {
 		e.Revision = rev
 		if e.Provenance.ImportedAt.IsZero() {
 			e.Provenance.ImportedAt = t
 		}
+		rows[i] = rowOf(e)
 		warns = append(warns, intrinsicWarnings(e)...)
-		warns = append(warns, duplicateWarnings(e, known)...)
-		known = append(known[:len(known):len(known)], e) // later new entries are checked against earlier ones
+		// Later new entries are checked against earlier ones too.
+		warns = append(warns, s.dupWarnings(e, &rows[i], c, es[:i], rows[:i])...)
 	}
-	if err := s.writeNew(m, rev, t, es); err != nil {
+	if err := s.writeNew(m, rev, t, es, c.with(rev, nil, rows)); err != nil {
 		return nil, nil, err
 	}
 	return es, warns, nil
 }
 
 // writeNew writes the files of new entries and then the manifest at
-// revision rev. If a write fails, the files already written by this call
-// are removed again, so that an operation lands completely or not at all
-// (a crash instead leaves them for verify, which reports them).
-func (s *Store) writeNew(m *manifest, rev int, t time.Time, es []*Entry) error {
+// revision rev with catalogue c. If a write fails, the files already
+// written by this call are removed again, so that an operation lands
+// completely or not at all (a crash instead leaves them for verify, which
+// reports them).
+func (s *Store) writeNew(m *manifest, rev int, t time.Time, es []*Entry, c *catalog) error {
 	var changes []Change
 	var written []string
 	undo := func() {
@@ -580,26 +613,27 @@ func (s *Store) writeNew(m *manifest, rev int, t time.Time, es []*Entry) error {
 		written = append(written, p)
 		changes = append(changes, Change{Revision: rev, Op: OpAdd, ID: e.ID, Kind: e.Kind})
 	}
-	if err := s.commit(m, rev, t, changes); err != nil {
+	if err := s.commit(m, rev, t, changes, c); err != nil {
 		undo()
 		return err
 	}
 	return nil
 }
 
-// checkNew checks normalised new entries against the library: IDs not
-// already there (nor taken by a corrupt file), names unique, and gives
-// entries without a name a default one.
-func (s *Store) checkNew(es []*Entry, existing []*Entry) error {
-	byID := map[string]*Entry{}
-	names := map[string]string{}
-	for _, x := range existing {
-		byID[x.ID] = x
-		names[x.Name] = x.ID
+// checkNew checks normalised new entries against the library's catalogue:
+// IDs not already there (nor taken by a corrupt file), names unique, and
+// gives entries without a name a default one.
+func (s *Store) checkNew(es []*Entry, c *catalog) error {
+	names := map[string]string{} // names taken by this batch
+	taken := func(n string) (string, bool) {
+		if id, ok := names[n]; ok {
+			return id, true
+		}
+		return c.nameOwner(n, "")
 	}
 	seen := map[string]bool{}
 	for _, e := range es {
-		if x, ok := byID[e.ID]; ok {
+		if x, ok := c.row(e.ID); ok {
 			return &ExistsError{ID: e.ID, Name: x.Name}
 		}
 		if seen[e.ID] {
@@ -614,7 +648,7 @@ func (s *Store) checkNew(es []*Entry, existing []*Entry) error {
 		if e.Name == "" {
 			continue
 		}
-		if id, ok := names[e.Name]; ok {
+		if id, ok := taken(e.Name); ok {
 			return &NameTakenError{Name: e.Name, ID: id}
 		}
 		names[e.Name] = ""
@@ -626,7 +660,7 @@ func (s *Store) checkNew(es []*Entry, existing []*Entry) error {
 		base := defaultName(e)
 		n := base
 		for i := 2; ; i++ {
-			if _, ok := names[n]; !ok {
+			if _, ok := taken(n); !ok {
 				break
 			}
 			n = fmt.Sprintf("%s (%d)", base, i)
@@ -659,8 +693,9 @@ func defaultName(e *Entry) string {
 	return strings.Join(parts, " ")
 }
 
-// commit writes the manifest at revision rev with changes appended.
-func (s *Store) commit(m *manifest, rev int, t time.Time, changes []Change) error {
+// commit writes the manifest at revision rev with changes appended, and
+// the catalogue c of the library after the write.
+func (s *Store) commit(m *manifest, rev int, t time.Time, changes []Change, c *catalog) error {
 	m.Revision = rev
 	m.ModifiedAt = t
 	m.Changes = append(m.Changes, changes...)
@@ -673,7 +708,7 @@ func (s *Store) commit(m *manifest, rev int, t time.Time, changes []Change) erro
 		m.ChangesFrom = m.Changes[drop-1].Revision
 		m.Changes = append([]Change(nil), m.Changes[drop:]...)
 	}
-	if err := s.writeManifest(m); err != nil {
+	if err := s.writeManifestCatalog(m, c); err != nil {
 		return fmt.Errorf("write manifest: %w", err)
 	}
 	s.mu.Lock()
@@ -704,8 +739,7 @@ func (s *Store) Edit(ref string, set map[string]string) (*Entry, []Warning, erro
 	if err != nil {
 		return nil, nil, err
 	}
-	existing, _ := s.Entries()
-	old, err := resolveIn(existing, ref)
+	c, old, err := s.resolveLocked(m, ref)
 	if err != nil {
 		return nil, nil, err
 	}
@@ -720,23 +754,16 @@ func (s *Store) Edit(ref string, set map[string]string) (*Entry, []Warning, erro
 		panic("library: edit changed the id") // applyEdits never touches spectrum or fit
 	}
 	if e.Name != old.Name {
-		for _, x := range existing {
-			if x.ID != e.ID && x.Name == e.Name {
-				return nil, nil, &NameTakenError{Name: e.Name, ID: x.ID}
-			}
+		if id, ok := c.nameOwner(e.Name, e.ID); ok {
+			return nil, nil, &NameTakenError{Name: e.Name, ID: id}
 		}
 	}
 	rev := m.Revision + 1
 	t := s.now().UTC()
 	e.Revision = rev
 	e.ModifiedAt = t
-	var others []*Entry
-	for _, x := range existing {
-		if x.ID != e.ID {
-			others = append(others, x)
-		}
-	}
-	warns := append(intrinsicWarnings(e), duplicateWarnings(e, others)...)
+	row := rowOf(e)
+	warns := append(intrinsicWarnings(e), s.dupWarnings(e, &row, c, nil, nil)...)
 	b, err := encodeEntry(e)
 	if err != nil {
 		return nil, nil, err
@@ -744,7 +771,7 @@ func (s *Store) Edit(ref string, set map[string]string) (*Entry, []Warning, erro
 	if err := writeFileAtomic(s.entryPath(e.Kind, e.ID), b); err != nil {
 		return nil, nil, fmt.Errorf("write entry %s: %w", e.ID, err)
 	}
-	if err := s.commit(m, rev, t, []Change{{Revision: rev, Op: OpEdit, ID: e.ID, Kind: e.Kind}}); err != nil {
+	if err := s.commit(m, rev, t, []Change{{Revision: rev, Op: OpEdit, ID: e.ID, Kind: e.Kind}}, c.with(rev, nil, []catRow{row})); err != nil {
 		if ob, oerr := encodeEntry(old); oerr == nil {
 			writeFileAtomic(s.entryPath(old.Kind, old.ID), ob) // put the old labels back
 		}
@@ -764,8 +791,7 @@ func (s *Store) Remove(ref string) (*Entry, error) {
 	if err != nil {
 		return nil, err
 	}
-	existing, _ := s.Entries()
-	e, err := resolveIn(existing, ref)
+	c, e, err := s.resolveLocked(m, ref)
 	if err != nil {
 		return nil, err
 	}
@@ -773,10 +799,34 @@ func (s *Store) Remove(ref string) (*Entry, error) {
 		return nil, fmt.Errorf("remove entry %s: %w", e.ID, err)
 	}
 	rev := m.Revision + 1
-	if err := s.commit(m, rev, s.now().UTC(), []Change{{Revision: rev, Op: OpRemove, ID: e.ID, Kind: e.Kind}}); err != nil {
+	if err := s.commit(m, rev, s.now().UTC(), []Change{{Revision: rev, Op: OpRemove, ID: e.ID, Kind: e.Kind}}, c.with(rev, []string{e.ID}, nil)); err != nil {
 		return nil, err
 	}
 	return e, nil
+}
+
+// resolveLocked resolves ref for a writer holding the lock, whose manifest
+// is m, and reads the entry: it returns the catalogue to update. If the
+// entry file no longer says what the catalogue does (a file changed by
+// hand), the catalogue is rebuilt from the files and ref resolved again.
+func (s *Store) resolveLocked(m *manifest, ref string) (*catalog, *Entry, error) {
+	c := s.writerCatalog(m, false)
+	row, err := c.resolve(ref)
+	if err != nil {
+		return nil, nil, err
+	}
+	if e, ok := s.readRowEntry(row); ok {
+		return c, e, nil
+	}
+	c = s.scanCatalog(m.Revision)
+	if row, err = c.resolve(ref); err != nil {
+		return nil, nil, err
+	}
+	e, err := ReadEntryFile(s.entryPath(row.Kind, row.ID))
+	if err != nil {
+		return nil, nil, err
+	}
+	return c, e, nil
 }
 
 // entryHead is the identifying part of an entry file.

@@ -32,6 +32,7 @@ const (
 	ProblemLeftover = "leftover" // a temporary file left by an interrupted write
 	ProblemStray    = "stray"    // a file that does not belong in the folder
 	ProblemIndex    = "index"    // the index disagrees with the entries
+	ProblemCatalog  = "catalog"  // catalog.tsv is missing or stale (derived; repair rebuilds it)
 )
 
 // Report is what verify found.
@@ -148,6 +149,7 @@ func verifyDir(dir string, opts VerifyOptions, s *Store) (*Report, error) {
 
 	// Entries.
 	var entries []*Entry
+	var badRows []catRow // entry files that cannot be used, for the catalogue
 	maxRev := 0
 	for _, sub := range []string{refsDir, runsDir} {
 		d := filepath.Join(dir, sub)
@@ -184,6 +186,7 @@ func verifyDir(dir string, opts VerifyOptions, s *Store) (*Report, error) {
 					code = ProblemJSON
 				}
 				add(rel(p), code, err.Error()+"; restore it from a backup or bundle, or remove it", false)
+				badRows = append(badRows, catRow{ID: id, Kind: folderKind(sub), Bad: true})
 				continue
 			}
 			if err := checkStored(e, id, sub); err != nil {
@@ -192,6 +195,7 @@ func verifyDir(dir string, opts VerifyOptions, s *Store) (*Report, error) {
 					code = ProblemHash
 				}
 				add(rel(p), code, err.Error(), false)
+				badRows = append(badRows, catRow{ID: id, Kind: folderKind(sub), Bad: true})
 				continue
 			}
 			// Usable, but fields this version does not know (a misspelt
@@ -224,6 +228,22 @@ func verifyDir(dir string, opts VerifyOptions, s *Store) (*Report, error) {
 		add(manifestName, ProblemName, fmt.Sprintf("name %q is used by %s; rename one with statemix library edit ID --set name=...", n, strings.Join(byName[n], ", ")), false)
 	}
 
+	// The catalogue the files call for.
+	files := map[string]catRow{}
+	revs := map[string]int{}
+	rows := append([]catRow(nil), badRows...)
+	for _, e := range entries {
+		rows = append(rows, rowOf(e))
+	}
+	rows = dedupRows(rows)
+	for _, r := range rows {
+		files[r.ID] = r
+	}
+	for _, e := range entries {
+		revs[e.ID] = e.Revision
+	}
+	scanned := func(rev int) *catalog { return newCatalog(rev, append([]catRow(nil), rows...)) }
+
 	// Manifest.
 	m, merr := readManifest(dir)
 	if merr != nil {
@@ -232,7 +252,7 @@ func verifyDir(dir string, opts VerifyOptions, s *Store) (*Report, error) {
 			t := s.now().UTC()
 			m = &manifest{Format: manifestFormat, Version: manifestVersion, Revision: maxRev + 1,
 				CreatedAt: t, ModifiedAt: t, ChangesFrom: maxRev + 1}
-			if err := s.writeManifest(m); err == nil {
+			if err := s.writeManifestCatalog(m, scanned(m.Revision)); err == nil {
 				repaired = true
 			}
 		}
@@ -248,6 +268,14 @@ func verifyDir(dir string, opts VerifyOptions, s *Store) (*Report, error) {
 			m = m2
 		}
 	}
+	var catProblem *Problem
+	if merr == nil {
+		if why := s.checkCatalog(m, files, revs, !opts.Repair); why != "" {
+			rep.Problems = append(rep.Problems, Problem{Path: catalogName, Code: ProblemCatalog,
+				Message: why + "; writers and lookups read every entry file until it is rebuilt: repair (or the next write) rebuilds it"})
+			catProblem = &rep.Problems[len(rep.Problems)-1]
+		}
+	}
 	if merr == nil && maxRev > m.Revision {
 		var changes []Change
 		for _, e := range entries {
@@ -257,11 +285,18 @@ func verifyDir(dir string, opts VerifyOptions, s *Store) (*Report, error) {
 		}
 		repaired := false
 		if opts.Repair {
-			if err := s.commit(m, maxRev, s.now().UTC(), changes); err == nil {
+			if err := s.commit(m, maxRev, s.now().UTC(), changes, scanned(maxRev)); err == nil {
 				repaired = true
 			}
 		}
+		if catProblem != nil {
+			catProblem.Repaired = repaired
+			catProblem = nil
+		}
 		add(manifestName, ProblemRevision, fmt.Sprintf("revision %d is behind entries written at revision %d (an interrupted write); repair raises it", m.Revision, maxRev), repaired)
+	}
+	if catProblem != nil && opts.Repair {
+		catProblem.Repaired = s.writeManifestCatalog(m, scanned(m.Revision)) == nil
 	}
 	if m != nil {
 		rep.Revision = m.Revision
@@ -275,6 +310,94 @@ func verifyDir(dir string, opts VerifyOptions, s *Store) (*Report, error) {
 		rep.Problems = append(rep.Problems, ps...)
 	}
 	return rep, nil
+}
+
+// folderKind is the kind of the entries a folder holds.
+func folderKind(folder string) Kind {
+	if folder == runsDir {
+		return KindMeasurement
+	}
+	return KindReference
+}
+
+// checkCatalog compares the catalogue of manifest m with the entry files
+// (files: the row each file calls for, bad rows for unusable files; revs:
+// their revisions) and says what is wrong, or "" if nothing. Entries
+// written after the catalogue's revision belong to an interrupted write
+// (reported as a revision problem) and are left out; so are unusable files,
+// as long as the catalogue lists them. Beside writers (settle), a
+// disagreement may be a write in progress: it waits for the writer lock to
+// be free, re-reads the manifest, the catalogue and the disagreeing files,
+// and looks again, a few times.
+func (s *Store) checkCatalog(m *manifest, files map[string]catRow, revs map[string]int, settle bool) string {
+	why, diff := catalogDiff(s.dir, m, files, revs)
+	deadline := time.Now().Add(s.lockTimeout())
+	for try := 0; why != "" && settle && try < 20 && time.Now().Before(deadline); try++ {
+		for !tryLockFree(s.dir) && time.Now().Before(deadline) {
+			time.Sleep(lockPoll)
+		}
+		m2, err := readManifest(s.dir)
+		if err != nil {
+			break
+		}
+		for _, id := range diff {
+			delete(files, id)
+			delete(revs, id)
+			for _, k := range []Kind{KindReference, KindMeasurement} {
+				p := s.entryPath(k, id)
+				e, err := ReadEntryFile(p)
+				if err == nil {
+					files[id], revs[id] = rowOf(e), e.Revision
+					break
+				}
+				if _, serr := os.Lstat(p); serr == nil {
+					files[id] = catRow{ID: id, Kind: k, Bad: true}
+					break
+				}
+			}
+		}
+		why, diff = catalogDiff(s.dir, m2, files, revs)
+	}
+	return why
+}
+
+// catalogDiff reads the catalogue of m and returns what is wrong with it
+// and the ids of the entries on which it disagrees with files.
+func catalogDiff(dir string, m *manifest, files map[string]catRow, revs map[string]int) (string, []string) {
+	c, err := readCatalog(dir, m)
+	if err != nil {
+		return err.Error(), nil
+	}
+	var diff []string
+	for id, f := range files {
+		i, ok := c.byID[id]
+		if !ok {
+			if f.Bad || revs[id] <= c.Revision {
+				diff = append(diff, id)
+			}
+			continue
+		}
+		if f.Bad || revs[id] > c.Revision {
+			continue
+		}
+		if c.rows[i] != f {
+			diff = append(diff, id)
+		}
+	}
+	for _, r := range c.rows {
+		if _, ok := files[r.ID]; !ok {
+			diff = append(diff, r.ID)
+		}
+	}
+	if len(diff) == 0 {
+		return "", nil
+	}
+	sort.Strings(diff)
+	ex := diff
+	if len(ex) > 3 {
+		ex = ex[:3]
+	}
+	return fmt.Sprintf("%s disagrees with %d entry files (%s)", catalogName, len(diff), strings.Join(ex, ", ")), diff
 }
 
 // strictDecode decodes an entry file refusing fields the entry type does
