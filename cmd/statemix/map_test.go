@@ -14,6 +14,8 @@ import (
 
 	"gonum.org/v1/gonum/floats/scalar"
 
+	"statemix/lineshape"
+	"statemix/lineshape/format"
 	"statemix/lineshape/format/npy"
 )
 
@@ -162,5 +164,45 @@ func TestMapCLIInterrupted(t *testing.T) {
 	}
 	if _, err := os.Stat(out); !os.IsNotExist(err) {
 		t.Errorf("output folder exists after an interrupted run: %v", err)
+	}
+}
+
+func TestMapCLIVAMAS(t *testing.T) {
+	// A 3 x 2 ISO 14976 map (MAP blocks with x and y), oxide fraction
+	// rising with x.
+	var specs []*lineshape.Spectrum
+	for y := range 2 {
+		for x := range 3 {
+			fox := float64(x) / 2
+			s := seriesSpectrum(320, 0.5, 300, func(e float64) float64 {
+				return 2*(1-fox)*seriesMetal(e) + 2*fox*seriesOxide(e) + 0.3
+			}, 0.005, 10*y+x+1)
+			xx, yy := x, y
+			s.Meta.PixelX, s.Meta.PixelY = &xx, &yy
+			specs = append(specs, s)
+		}
+	}
+	dir := t.TempDir()
+	p := filepath.Join(dir, "map.vms")
+	if err := format.WriteFile(p, specs, format.FormatVAMAS); err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(dir, "out")
+	code, _, stderr := runApp(t, nil, append([]string{"map", p, "--out", out, "--max-shift", "1"}, seriesRefFiles(t, t.TempDir())...)...)
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	a, err := npy.ReadFile(filepath.Join(out, "fraction-oxide.npy"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if a.Shape[0] != 2 || a.Shape[1] != 3 {
+		t.Fatalf("shape %v, want [2 3]", a.Shape)
+	}
+	for i, want := range []float64{0, 0.5, 1, 0, 0.5, 1} {
+		// Noise SD 0.005 against peaks near 2: fractions within 0.01.
+		if !scalar.EqualWithinAbs(a.Data[i], want, 0.01) {
+			t.Errorf("pixel %d: oxide fraction %v, want %v", i, a.Data[i], want)
+		}
 	}
 }
