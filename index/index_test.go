@@ -3,6 +3,7 @@ package index
 import (
 	"errors"
 	"fmt"
+	"math"
 	"math/rand/v2"
 	"slices"
 	"sort"
@@ -10,6 +11,7 @@ import (
 	"time"
 
 	"statemix/library"
+	"statemix/lineshape"
 )
 
 // labelledLibrary makes a small library whose labels the query tests know.
@@ -275,5 +277,80 @@ func TestCheckerForVerify(t *testing.T) {
 	}
 	if stale, probs, err := Check(st); stale || err != nil {
 		t.Fatalf("after repair: %v %v %v", stale, probs, err)
+	}
+}
+
+// TestLikeDirectUnknown searches with a direct N(E) spectrum in a library
+// of derivative references recorded with a 2 eV modulation: Like must
+// emulate the lock-in on the unknown and find the matching reference at
+// the right shift (within 0.2 eV, 0.4 grid channel).
+func TestLikeDirectUnknown(t *testing.T) {
+	direct := func(ps []peak, dE float64) *lineshape.Spectrum {
+		y := make([]float64, 801)
+		for i := range y {
+			e := 300 + 0.25*float64(i) - dE
+			y[i] = 80 - 0.1*(e-300)
+			for _, p := range ps {
+				u := (e - p.E) / p.Sigma
+				y[i] += 10 * p.A * math.Exp(-u*u/2)
+			}
+		}
+		s, err := lineshape.NewUniform(300, 0.25, y, lineshape.Direct)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return s
+	}
+	shapes := [][]peak{
+		{{360, 1, 3}, {372, 0.6, 2}},
+		{{358, 1, 4}, {380, 0.5, 2}},
+		{{365, 1, 2.5}},
+		{{355, 0.7, 3}, {370, 1, 3}, {390, 0.3, 2}},
+	}
+	var es []*library.Entry
+	for i, ps := range shapes {
+		d, err := direct(ps, 0).LockIn(2)
+		if err != nil {
+			t.Fatal(err)
+		}
+		es = append(es, &library.Entry{Kind: library.KindReference, Name: fmt.Sprintf("ref %d", i), Element: "Ti",
+			Transition: "LMM", State: "metal", Spectrum: d, Acquisition: library.Acquisition{ModulationEV: 2}})
+	}
+	st, out := newLibrary(t, es...)
+	syncIndex(t, st)
+	x := openReader(t, st)
+	for i, ps := range shapes {
+		hits, err := x.Like(direct(ps, 1.5), LikeOptions{Top: 2})
+		if err != nil {
+			t.Fatal(err)
+		}
+		want := out[slices.IndexFunc(out, func(e *library.Entry) bool { return e.Name == fmt.Sprintf("ref %d", i) })].ID
+		if len(hits) == 0 || hits[0].Ref != want || math.Abs(hits[0].ShiftEV-1.5) > 0.2 || hits[0].Similarity < 0.95 {
+			t.Errorf("direct unknown %d: %v", i, hitNames(hits))
+		}
+	}
+
+	// And the other way round: direct references, a derivative unknown.
+	es = nil
+	for i, ps := range shapes {
+		es = append(es, &library.Entry{Kind: library.KindReference, Name: fmt.Sprintf("direct %d", i), Element: "Ti",
+			Transition: "LMM", State: "oxide", Spectrum: direct(ps, 0), Acquisition: library.Acquisition{ModulationEV: 2}})
+	}
+	st, out = newLibrary(t, es...)
+	syncIndex(t, st)
+	x = openReader(t, st)
+	for i, ps := range shapes {
+		unk, err := direct(ps, -2).LockIn(2)
+		if err != nil {
+			t.Fatal(err)
+		}
+		hits, err := x.Like(unk, LikeOptions{Top: 2})
+		if err != nil {
+			t.Fatal(err)
+		}
+		want := out[slices.IndexFunc(out, func(e *library.Entry) bool { return e.Name == fmt.Sprintf("direct %d", i) })].ID
+		if len(hits) == 0 || hits[0].Ref != want || math.Abs(hits[0].ShiftEV+2) > 0.2 || hits[0].Similarity < 0.95 {
+			t.Errorf("derivative unknown %d against direct references: %v", i, hitNames(hits))
+		}
 	}
 }
