@@ -233,13 +233,11 @@ func parseFitFlags(opts *fitOptions) error {
 	o.Modulation = opts.Modulation
 	o.Element = opts.Element
 	if opts.Window != "" {
-		lo, hi, ok := strings.Cut(opts.Window, ":")
-		a, err1 := strconv.ParseFloat(strings.TrimSpace(lo), 64)
-		b, err2 := strconv.ParseFloat(strings.TrimSpace(hi), 64)
-		if !ok || err1 != nil || err2 != nil || !(a < b) || math.IsInf(a, 0) || math.IsInf(b, 0) {
-			return usageErrorf("--window %q: want LO:HI in eV with LO < HI", opts.Window)
+		w, err := parseWindow(opts.Window)
+		if err != nil {
+			return usageErrorf("--window %q: %v", opts.Window, err)
 		}
-		o.Window = [2]float64{a, b}
+		o.Window = w
 	}
 	if opts.Block < 0 {
 		return usageErrorf("--block %d: blocks count from 1", opts.Block)
@@ -260,6 +258,39 @@ func parseFitFlags(opts *fitOptions) error {
 	}
 	opts.fit = o
 	return nil
+}
+
+// parseWindow parses --window LO:HI (eV, LO < HI, both finite).
+func parseWindow(s string) ([2]float64, error) {
+	lo, hi, ok := strings.Cut(s, ":")
+	a, err1 := strconv.ParseFloat(strings.TrimSpace(lo), 64)
+	b, err2 := strconv.ParseFloat(strings.TrimSpace(hi), 64)
+	if !ok || err1 != nil || err2 != nil || !(a < b) || math.IsInf(a, 0) || math.IsInf(b, 0) {
+		return [2]float64{}, errors.New("want LO:HI in eV with LO < HI")
+	}
+	return [2]float64{a, b}, nil
+}
+
+// splitRefFile splits --ref-file FILE[:state]. A whole argument naming an
+// existing file is a path; otherwise the first colon after which the part
+// before it names an existing file separates the state (so states such as
+// "other:hydrated" survive); failing both, the last colon does.
+func splitRefFile(arg string) (path, state string) {
+	if _, err := os.Stat(arg); err == nil {
+		return arg, ""
+	}
+	for i := 1; i < len(arg); i++ {
+		if arg[i] != ':' {
+			continue
+		}
+		if st, err := os.Stat(arg[:i]); err == nil && !st.IsDir() {
+			return arg[:i], arg[i+1:]
+		}
+	}
+	if i := strings.LastIndex(arg, ":"); i > 0 && !strings.ContainsAny(arg[i+1:], `/\`) {
+		return arg[:i], arg[i+1:]
+	}
+	return arg, ""
 }
 
 // runFit reads the unknown and the references, fits, and writes the results.
@@ -470,12 +501,7 @@ func gatherReferences(app *App, unknown *lineshape.Spectrum, opts *fitOptions) (
 // gives its labels; otherwise the spectrum's Meta.Extra "element", "state"
 // (or the VAMAS "species") and "compound" do, and a :state suffix wins.
 func readRefFile(arg string) (fit.Reference, map[string]string, error) {
-	path, state := arg, ""
-	if i := strings.LastIndex(arg, ":"); i > 0 && !strings.ContainsAny(arg[i+1:], `/\`) {
-		if _, err := os.Stat(arg); err != nil {
-			path, state = arg[:i], arg[i+1:]
-		}
-	}
+	path, state := splitRefFile(arg)
 	if e, err := library.ReadEntryFile(path); err == nil && e.Spectrum != nil {
 		if state == "" {
 			state = e.State

@@ -303,3 +303,43 @@ func TestFitCompletion(t *testing.T) {
 		}
 	}
 }
+
+func FuzzParseWindow(f *testing.F) {
+	for _, s := range []string{"370:430", " 370 : 430 ", "430:370", "1e3:2e3", ":", "370", "a:b", "NaN:1", "-Inf:0", "0:+Inf", "1:1"} {
+		f.Add(s)
+	}
+	f.Fuzz(func(t *testing.T, s string) {
+		w, err := parseWindow(s)
+		if err != nil {
+			return
+		}
+		if !(w[0] < w[1]) || math.IsInf(w[0], 0) || math.IsInf(w[1], 0) || math.IsNaN(w[0]) || math.IsNaN(w[1]) {
+			t.Fatalf("parseWindow(%q) = %v", s, w)
+		}
+	})
+}
+
+func TestSplitRefFile(t *testing.T) {
+	dir := t.TempDir()
+	odd := filepath.Join(dir, "a:b")
+	ref := filepath.Join(dir, "ref.json")
+	for _, p := range []string{odd, ref} {
+		if err := os.WriteFile(p, nil, 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	for _, c := range []struct{ arg, path, state string }{
+		{"metal.csv", "metal.csv", ""},
+		{"metal.csv:metal", "metal.csv", "metal"},
+		{"dir:x/metal.csv", "dir:x/metal.csv", ""},
+		{ref + ":other:hydrated", ref, "other:hydrated"},
+		{ref + ":oxide", ref, "oxide"},
+		{odd, odd, ""},
+		{odd + ":metal", odd, "metal"},
+	} {
+		p, s := splitRefFile(c.arg)
+		if p != c.path || s != c.state {
+			t.Errorf("splitRefFile(%q) = %q, %q; want %q, %q", c.arg, p, s, c.path, c.state)
+		}
+	}
+}
