@@ -588,6 +588,9 @@ func (w *pixelWorker) fit(spec []float64, res *MapResult, p int) bool {
 			res.Fractions[i][p] = math.NaN()
 		}
 	}
+	if sum == 0 {
+		shift = math.NaN() // no reference signal: no shift to speak of
+	}
 	res.Shift[p] = shift
 	res.Chi2[p] = chi2
 	return true

@@ -394,3 +394,26 @@ func TestCubeFromSpectra(t *testing.T) {
 		t.Errorf("no position: err = %v, want block 4 named", err)
 	}
 }
+
+func TestMapBadPixels(t *testing.T) {
+	sm := newSynthMap(4, 4, 300, 1, 0.01, 5)
+	sm.cube.Values[5*300+17] = math.NaN() // pixel 5: one NaN channel
+	for j := range 300 {
+		sm.cube.Values[9*300+j] = 0 // pixel 9: no signal at all
+	}
+	res, err := Map(context.Background(), sm.cube, testRefs(3), MapOptions{Fit: fit.Options{MaxShift: 1}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Failed != 1 || len(res.Warnings) == 0 || !strings.Contains(res.Warnings[len(res.Warnings)-1], "1 of 16 pixels") {
+		t.Errorf("failed %d, warnings %q", res.Failed, res.Warnings)
+	}
+	for _, p := range []int{5, 9} {
+		if !math.IsNaN(res.Fractions[0][p]) || !math.IsNaN(res.Shift[p]) {
+			t.Errorf("pixel %d: fraction %v shift %v, want NaN", p, res.Fractions[0][p], res.Shift[p])
+		}
+	}
+	if math.IsNaN(res.Fractions[0][6]) || math.IsNaN(res.Components[0].MeanFraction) {
+		t.Errorf("good pixels spoiled: %v, mean %v", res.Fractions[0][6], res.Components[0].MeanFraction)
+	}
+}

@@ -74,7 +74,10 @@ type mapJSON struct {
 
 type mapComponent struct {
 	MapComponent
-	File string `json:"file"`
+	// MeanFraction shadows the embedded field: null when no pixel has a
+	// fraction.
+	MeanFraction *float64 `json:"mean_fraction"`
+	File         string   `json:"file"`
 }
 
 // MarshalJSON returns the map.json document of r (statemix.map/v1).
@@ -93,11 +96,11 @@ func (r *MapResult) MarshalJSON() ([]byte, error) {
 		doc.ShiftGrid = [3]float64{r.Shifts[0], r.Shifts[n-1], step}
 	}
 	for i, name := range r.FractionNames() {
-		c := r.Components[i]
-		if math.IsNaN(c.MeanFraction) {
-			c.MeanFraction = 0
+		c := mapComponent{MapComponent: r.Components[i], File: name + ".npy"}
+		if m := r.Components[i].MeanFraction; !math.IsNaN(m) {
+			c.MeanFraction = &m
 		}
-		doc.Components = append(doc.Components, mapComponent{MapComponent: c, File: name + ".npy"})
+		doc.Components = append(doc.Components, c)
 	}
 	return json.MarshalIndent(doc, "", "  ")
 }
