@@ -63,13 +63,17 @@ type Suggestion struct {
 	EffectivePoints float64
 	// Reason says in a sentence or two why the winner won.
 	Reason string
+	// Window is the fit window every trial used, eV.
+	Window [2]float64
 }
 
 // Suggest proposes references for fitting unknown from the library of
 // store: candidates are the references most similar to it (see Like;
 // restricted to an element if given, topped up with other references of
 // that element from the index), and subsets of up to K of them are fitted
-// with package fit, starting from single references and growing the Beam
+// with package fit over one common window (the one asked for, else the
+// unknown's overlap with the most similar candidate less the maximum shift
+// at each end; candidates not covering it are dropped), starting from single references and growing the Beam
 // best subsets of each size by one candidate at a time. The winner is the
 // subset with the lowest Bayesian information criterion
 //
@@ -133,6 +137,31 @@ func (x *Index) Suggest(ctx context.Context, store *library.Store, unknown *line
 		}
 		pool = append(pool, fit.Reference{ID: e.ID, Name: e.Name, Element: e.Element, State: e.State, Spectrum: e.Spectrum})
 	}
+	if len(pool) == 0 {
+		return sug, nil
+	}
+	// Every trial must fit the same channels, or their criteria are not
+	// comparable: fix the window (the one asked for, else the unknown's
+	// overlap with the most similar candidate, trimmed by the maximum shift)
+	// and keep only candidates that cover it.
+	win := fo.Window
+	if win == [2]float64{} {
+		lo := math.Max(unknown.Axis.Lo(), pool[0].Spectrum.Axis.Lo()) + maxShift
+		hi := math.Min(unknown.Axis.Hi(), pool[0].Spectrum.Axis.Hi()) - maxShift
+		if !(hi > lo) {
+			return sug, nil
+		}
+		win = [2]float64{lo, hi}
+	}
+	var covering []fit.Reference
+	for _, r := range pool {
+		if r.Spectrum.Axis.Lo() <= win[0]-maxShift+1e-9 && r.Spectrum.Axis.Hi() >= win[1]+maxShift-1e-9 {
+			covering = append(covering, r)
+		}
+	}
+	pool = covering
+	fo.Window = win
+	sug.Window = win
 	if len(pool) == 0 {
 		return sug, nil
 	}
