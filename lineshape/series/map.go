@@ -40,6 +40,8 @@ type MapOptions struct {
 	// Progress, if not nil, is called after each tile with the pixels
 	// done and the total. It is never called concurrently.
 	Progress func(done, total int)
+
+	fullScan bool // tests: solve every shift, no bound
 }
 
 // MapComponent names one reference of a map.
@@ -222,8 +224,10 @@ type plan struct {
 	basis    [][]float64 // background columns, length n
 	free     []bool      // k+q: background columns are free
 	bgram    []float64   // q*q: dot products of the background columns
+	ginv     [][]float64 // per shift: (A_s^T A_s)^-1 row-major, nil if not positive definite
 	bank     *nnls.Bank
 	warnings []string
+	fullScan bool
 }
 
 // newPlan prepares the model with fit.Prepare (mode, modulation, window,
@@ -259,7 +263,7 @@ func newPlan(cube Cube, refs []fit.Reference, opts MapOptions) (*plan, error) {
 		return nil, lineshape.Errorf(cube.Name(), 0, "the cube holds %v spectra but the references need a %v fit: convert the references (statemix convert --to %v) so that no pixel needs lock-in emulation", cube.Mode(), m.Mode(), cube.Mode())
 	}
 	ro := m.Options()
-	pl := &plan{k: len(refs), n: m.Points(), window: m.Window(), mode: m.Mode(), warnings: m.Warnings()}
+	pl := &plan{k: len(refs), n: m.Points(), window: m.Window(), mode: m.Mode(), warnings: m.Warnings(), fullScan: opts.fullScan}
 	pl.i0 = int(math.Round((pl.window[0] - ax.Start) / ax.Step))
 	if pl.i0 < 0 || pl.i0+pl.n > c {
 		panic("series: fit window outside the cube")
@@ -334,6 +338,10 @@ func newPlan(cube Cube, refs []fit.Reference, opts MapOptions) (*plan, error) {
 		}
 		as[j] = a
 	}
+	pl.ginv = make([][]float64, S)
+	for j := range pl.shifts {
+		pl.ginv[j] = inverseGram(as[j])
+	}
 	free := make([]bool, ncol)
 	for b := range pl.q {
 		free[pl.k+b] = true
@@ -348,6 +356,29 @@ func newPlan(cube Cube, refs []fit.Reference, opts MapOptions) (*plan, error) {
 		return nil, err
 	}
 	return pl, nil
+}
+
+// inverseGram returns (A^T A)^-1 row-major, or nil if A^T A is not
+// numerically positive definite.
+func inverseGram(a *mat.Dense) []float64 {
+	_, n := a.Dims()
+	var g mat.SymDense
+	g.SymOuterK(1, a.T())
+	var ch mat.Cholesky
+	if !ch.Factorize(&g) {
+		return nil
+	}
+	var inv mat.SymDense
+	if err := ch.InverseTo(&inv); err != nil {
+		return nil
+	}
+	out := make([]float64, n*n)
+	for i := range n {
+		for j := range n {
+			out[i*n+j] = inv.At(i, j)
+		}
+	}
+	return out
 }
 
 // basisGram returns the dot product of background columns a and b.
@@ -380,15 +411,17 @@ func legendre(n, deg int) [][]float64 {
 // pixelWorker holds one goroutine's workspace. It allocates nothing per
 // pixel.
 type pixelWorker struct {
-	pl    *plan
-	bank  *nnls.Bank
-	atb   []float64 // k+q
-	bgAtb []float64 // q
-	refs  []float64 // k*S: A_k^T b of every reference at every shift
-	rss   []float64 // S
-	best  []float64 // k+q: coefficients at the best shift
-	res   nnls.Result
-	r     []float64 // n: residual
+	pl     *plan
+	bank   *nnls.Bank
+	atb    []float64 // k+q
+	bgAtb  []float64 // q
+	refs   []float64 // k*S: A_k^T b of every reference at every shift
+	rss    []float64 // S: NNLS RSS, NaN where not solved or failed
+	lb     []float64 // S: unconstrained RSS, a lower bound on rss
+	solved []bool    // S
+	best   []float64 // k+q: coefficients at the best shift
+	res    nnls.Result
+	r      []float64 // n: residual
 
 	// Solve at the refined shift.
 	cols  [][]float64 // k+q columns, length n: refs at the shift, then the basis
@@ -406,6 +439,7 @@ func (pl *plan) newPixelWorker() *pixelWorker {
 		pl: pl, bank: pl.bank.Clone(),
 		atb: make([]float64, p), bgAtb: make([]float64, pl.q),
 		refs: make([]float64, pl.k*S), rss: make([]float64, S),
+		lb: make([]float64, S), solved: make([]bool, S),
 		best: make([]float64, p), r: make([]float64, pl.n),
 		cols: make([][]float64, p), gram: make([]float64, p*p), c: make([]float64, p),
 		small: mat.NewDense(p, p, nil),
@@ -415,6 +449,26 @@ func (pl *plan) newPixelWorker() *pixelWorker {
 	}
 	copy(w.cols[pl.k:], pl.basis)
 	return w
+}
+
+// assemble sets w.atb to A_s^T b from the per-shift reference projections
+// and the background ones.
+func (w *pixelWorker) assemble(s int) {
+	S, k := len(w.pl.shifts), w.pl.k
+	for i := range k {
+		w.atb[i] = w.refs[i*S+s]
+	}
+	copy(w.atb[k:], w.bgAtb)
+}
+
+// quadForm returns v^T G v for the row-major square matrix g.
+func quadForm(g, v []float64) float64 {
+	n := len(v)
+	var q float64
+	for i := range n {
+		q += v[i] * dot(g[i*n:(i+1)*n], v)
+	}
+	return q
 }
 
 // solveAt solves the pixel's NNLS problem with the references sampled at
@@ -502,18 +556,32 @@ func (w *pixelWorker) fit(spec []float64, res *MapResult, p int) bool {
 	for i := range w.refs {
 		w.refs[i] = dot(pl.tables[i], b)
 	}
+	// Branch and bound over the grid: the unconstrained least-squares RSS
+	// of a shift is a lower bound on its NNLS RSS, so shifts whose bound
+	// exceeds the best NNLS RSS found (by more than rounding) cannot win
+	// and are not solved. The result is the full scan's.
 	bestK, bestRSS := -1, math.Inf(1)
+	first, firstLB := -1, math.Inf(1)
 	for s := range S {
-		for i := range k {
-			w.atb[i] = w.refs[i*S+s]
+		w.solved[s] = false
+		w.rss[s] = math.NaN()
+		w.lb[s] = math.Inf(-1)
+		if g := pl.ginv[s]; g != nil {
+			w.assemble(s)
+			w.lb[s] = btb - quadForm(g, w.atb)
 		}
-		copy(w.atb[k:], w.bgAtb)
+		if w.lb[s] < firstLB {
+			first, firstLB = s, w.lb[s]
+		}
+	}
+	solve := func(s int) {
+		w.solved[s] = true
+		w.assemble(s)
 		err := w.bank.SolveNormal(&w.res, s, w.atb, btb)
 		if err != nil {
 			var ce *nnls.ConvergenceError
 			if !errors.As(err, &ce) {
-				w.rss[s] = math.NaN()
-				continue
+				return
 			}
 		}
 		r := w.res.ResidualNorm * w.res.ResidualNorm
@@ -521,6 +589,25 @@ func (w *pixelWorker) fit(spec []float64, res *MapResult, p int) bool {
 		if r < bestRSS {
 			bestK, bestRSS = s, r
 			copy(w.best, w.res.X)
+		}
+	}
+	if first >= 0 {
+		solve(first)
+	}
+	margin := 1e-9 * btb
+	if pl.fullScan {
+		margin = math.Inf(1)
+	}
+	for s := range S {
+		if !w.solved[s] && !(w.lb[s] > bestRSS+margin) {
+			solve(s)
+		}
+	}
+	if bestK >= 0 {
+		for _, s := range []int{bestK - 1, bestK + 1} {
+			if s >= 0 && s < S && !w.solved[s] {
+				solve(s)
+			}
 		}
 	}
 	if bestK < 0 {

@@ -417,3 +417,29 @@ func TestMapBadPixels(t *testing.T) {
 		t.Errorf("good pixels spoiled: %v, mean %v", res.Fractions[0][6], res.Components[0].MeanFraction)
 	}
 }
+
+func TestMapBoundMatchesFullScan(t *testing.T) {
+	// Include a pixel family where nonnegativity binds (zero nitride) and
+	// one near-noiseless case, where the bound's margin matters most.
+	for _, sigma := range []float64{0.01, 1e-6} {
+		sm := newSynthMap(24, 24, 300, 2, sigma, 21)
+		refs := testRefs(3)
+		a, err := Map(context.Background(), sm.cube, refs, MapOptions{Fit: fit.Options{MaxShift: 2}})
+		if err != nil {
+			t.Fatal(err)
+		}
+		b, err := Map(context.Background(), sm.cube, refs, MapOptions{Fit: fit.Options{MaxShift: 2}, fullScan: true})
+		if err != nil {
+			t.Fatal(err)
+		}
+		diff := 0
+		for p := range a.Shift {
+			if math.Float64bits(a.Shift[p]) != math.Float64bits(b.Shift[p]) || math.Float64bits(a.Fractions[2][p]) != math.Float64bits(b.Fractions[2][p]) {
+				diff++
+			}
+		}
+		if diff > 0 {
+			t.Errorf("sigma %g: %d of %d pixels differ between the bounded and the full scan", sigma, diff, len(a.Shift))
+		}
+	}
+}
