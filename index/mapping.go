@@ -47,7 +47,7 @@ const (
 	fieldHi          = "energy_hi_ev" // highest energy of the spectrum
 )
 
-// Fields lists every searchable field, in the order the field listing
+// fields lists every searchable field, in the order the field listing
 // prints them.
 var fields = []Field{
 	{fieldRef, Keyword, "", "entry id (12 hex digits)", "ref:3fa9c0d1e2b4"},
