@@ -138,6 +138,7 @@ figcaption{font-size:.9rem;color:#444}
 ul.warn{background:#fff6e0;border-left:4px solid #d99a06;padding:.5rem .5rem .5rem 1.8rem}
 dl.kv{display:grid;grid-template-columns:max-content 1fr;gap:.2rem 1rem}dl.kv dt{color:#555}dl.kv dd{margin:0;overflow-wrap:anywhere}
 pre{background:#f6f6f6;padding:.5rem;overflow-x:auto;white-space:pre-wrap;overflow-wrap:anywhere}
+@media (max-width:40rem){body{padding:.6rem}th,td{padding:.25rem .45rem}figure{overflow-x:auto}figure svg{width:32rem;max-width:none}}
 @media print{body{max-width:none;padding:0}h2{break-after:avoid}figure,table{break-inside:avoid}ul.warn{background:none}}
 `
 
