@@ -42,6 +42,16 @@
 // vectors share one grid, a candidate costs one pass of 21 dot products;
 // prefix sums of the unknown make each overlap's normalisation O(1).
 //
+// # Suggestions
+//
+// Suggest proposes references for fit --suggest: candidates by similarity
+// (and, for a given element, the index), subsets of up to K fitted with
+// package lineshape/fit over one common window, grown from single
+// references in a beam search, and the subset with the lowest BIC kept,
+// n_eff ln(RSS/n) + p ln(n_eff), with n_eff the fitted channels divided by
+// the residual autocorrelation factor. Every trial is reported, with a
+// sentence on why the winner won.
+//
 // # Concurrency
 //
 // Queries open the index read-only (bleve's read_only with a shared lock on

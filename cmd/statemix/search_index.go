@@ -3,6 +3,9 @@ package main
 import (
 	"errors"
 	"fmt"
+	"time"
+
+	"github.com/schollz/progressbar/v3"
 
 	"statemix/index"
 	"statemix/library"
@@ -20,7 +23,23 @@ func (a *App) syncIndex(store *library.Store) error {
 	if err != nil {
 		return fmt.Errorf("index: %w", err)
 	}
-	err = x.SyncContext(a.Ctx, store, nil)
+	// A big reindex (a first search of a large library, an import) shows a
+	// progress bar on a terminal; the usual one-entry update does not.
+	var bar *progressbar.ProgressBar
+	progress := func(done, total int) {
+		if bar == nil && total >= 1000 && showProgress(a) {
+			bar = progressbar.NewOptions(total, progressbar.OptionSetWriter(a.Err),
+				progressbar.OptionSetDescription("index"), progressbar.OptionClearOnFinish(),
+				progressbar.OptionThrottle(100*time.Millisecond))
+		}
+		if bar != nil {
+			_ = bar.Set(done)
+		}
+	}
+	err = x.SyncContext(a.Ctx, store, progress)
+	if bar != nil {
+		_ = bar.Finish()
+	}
 	if cerr := x.Close(); err == nil {
 		err = cerr
 	}
