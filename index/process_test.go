@@ -168,7 +168,8 @@ func TestConcurrentSearchAndAdd(t *testing.T) {
 }
 
 // TestKilledWriter kills a writer after the first of several batches: the
-// index must be reported stale, and Rebuild must make it whole.
+// index must be reported stale (by Check and by library verify), and
+// verify --repair (Rebuild) must make it whole.
 func TestKilledWriter(t *testing.T) {
 	st, _ := newLibrary(t, synthEntry("Ti", "metal", 0, "base"))
 	syncIndex(t, st)
@@ -209,12 +210,18 @@ func TestKilledWriter(t *testing.T) {
 	if !strings.Contains(strings.Join(probs, "\n"), "interrupted") {
 		t.Errorf("problems do not say the update was interrupted: %v", probs)
 	}
-	if err := Rebuild(st); err != nil {
-		t.Fatal(err)
+	// library verify sees it through Checker, and verify --repair rebuilds.
+	rep, err := st.Verify(library.VerifyOptions{CheckIndex: Checker(st.Dir())})
+	if err != nil || rep.OK() {
+		t.Fatalf("verify after the kill: ok=%v %v %+v", rep != nil && rep.OK(), err, rep)
+	}
+	rep, err = st.Verify(library.VerifyOptions{Repair: true, CheckIndex: Checker(st.Dir())})
+	if err != nil || !rep.OK() {
+		t.Fatalf("verify --repair after the kill: %v %+v", err, rep)
 	}
 	stale, probs, err = Check(st)
 	if stale || err != nil {
-		t.Fatalf("after Rebuild: stale=%v %v %v", stale, probs, err)
+		t.Fatalf("after repair: stale=%v %v %v", stale, probs, err)
 	}
 	x := openReader(t, st)
 	if n, _ := x.Count(); n != 24 {
