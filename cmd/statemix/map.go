@@ -12,7 +12,6 @@ import (
 	"os"
 	"path/filepath"
 	"runtime"
-	"strconv"
 	"strings"
 
 	"github.com/spf13/cobra"
@@ -292,16 +291,16 @@ func writeMapPNG(path string, v []float64, w, h int, pixelUM float64, title stri
 	return fig.WriteFile(path)
 }
 
-// fromTopTicks labels a y axis by the distance from its top, H.
+// fromTopTicks labels a y axis of height H by the distance from its top:
+// round labels from the top, placed at H - label.
 type fromTopTicks struct{ H float64 }
 
-// Ticks returns the default ticks relabelled as H - y.
+// Ticks returns the default ticks of [H - max, H - min], each moved to
+// H - value.
 func (f fromTopTicks) Ticks(min, max float64) []plot.Tick {
-	ts := plot.DefaultTicks{}.Ticks(min, max)
+	ts := plot.DefaultTicks{}.Ticks(f.H-max, f.H-min)
 	for i := range ts {
-		if ts[i].Label != "" {
-			ts[i].Label = strconv.FormatFloat(f.H-ts[i].Value, 'g', 4, 64)
-		}
+		ts[i].Value = f.H - ts[i].Value
 	}
 	return ts
 }
