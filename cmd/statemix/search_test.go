@@ -281,3 +281,68 @@ func TestFitSuggestAndSave(t *testing.T) {
 		t.Errorf("saved run by similarity: exit %d %+v", code, sd.Hits)
 	}
 }
+
+// TestSearchLikeRealData finds the measured spectrum of ../shared/realdata
+// again through the command line (format.ReadFile on the uneven grid, the
+// index, the ranking) after a 2.5 eV shift, a 0.3 scale and noise at S/N 20
+// (sd = peak-to-peak/20), among synthetic decoys over the same range.
+func TestSearchLikeRealData(t *testing.T) {
+	const real = "../../../shared/realdata/derivative-aes-metal-crystal.dat"
+	if _, err := os.Stat(real); err != nil {
+		t.Skipf("real data not available (%v): skipping; it lives in ../shared/realdata beside the repository", err)
+	}
+	dir := filepath.Join(t.TempDir(), "lib")
+	if code, _, errs := runApp(t, nil, "--library", dir, "library", "init"); code != 0 {
+		t.Fatal(errs)
+	}
+	if code, _, errs := runApp(t, nil, "--library", dir, "library", "add", real, "--element", "Ti", "--transition", "LMM",
+		"--state", "metal", "--name", "measured"); code != 0 {
+		t.Fatal(errs)
+	}
+	st, err := library.Open(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rng := rand.New(rand.NewPCG(11, 12))
+	var decoys []*library.Entry
+	for i := 0; i < 20; i++ {
+		var ps [][3]float64
+		for j := 0; j < 3; j++ {
+			ps = append(ps, [3]float64{110 + 370*rng.Float64(), 0.3 + rng.Float64(), 1.5 + 3*rng.Float64()})
+		}
+		sort.Slice(ps, func(a, b int) bool { return ps[a][0] < ps[b][0] })
+		decoys = append(decoys, &library.Entry{Kind: library.KindReference, Name: fmt.Sprintf("decoy %d", i), Element: "Ti",
+			Transition: "LMM", State: "oxide", Spectrum: gaussDeriv(98, 486, 0.35, ps, 0, 0.01)})
+	}
+	if _, _, err := st.Add(decoys...); err != nil {
+		t.Fatal(err)
+	}
+	// The unknown: the measured values moved 2.5 eV up the energy axis.
+	b, _ := os.ReadFile(real)
+	var e, y []float64
+	for _, line := range strings.Split(strings.TrimSpace(string(b)), "\n") {
+		var a, v float64
+		if _, err := fmt.Sscan(line, &a, &v); err != nil {
+			t.Fatal(err)
+		}
+		e, y = append(e, a+2.5), append(y, 0.3*v)
+	}
+	lo, hi := slices.Min(y), slices.Max(y)
+	var sb strings.Builder
+	for i := range e {
+		fmt.Fprintf(&sb, "%.5f\t%.6g\n", e[i], y[i]+(hi-lo)/20*rng.NormFloat64())
+	}
+	path := filepath.Join(t.TempDir(), "unknown.dat")
+	if err := os.WriteFile(path, []byte(sb.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	code, out, errs := runApp(t, nil, "--library", dir, "--json", "search", "--like", path, "--top", "3")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	doc := decodeSearch(t, out)
+	if len(doc.Hits) == 0 || doc.Hits[0].Name != "measured" || math.Abs(*doc.Hits[0].ShiftEV-2.5) > 0.2 {
+		t.Fatalf("hits %+v, want measured first at +2.5 +/- 0.2 eV", doc.Hits)
+	}
+	t.Logf("best: similarity %.3f shift %+.3f eV; next %.3f", *doc.Hits[0].Similarity, *doc.Hits[0].ShiftEV, *doc.Hits[1].Similarity)
+}
