@@ -3,8 +3,8 @@ package main
 import (
 	"context"
 	"encoding/csv"
-	"errors"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
 	"math"
