@@ -262,3 +262,17 @@ func TestReadStepsVAMAS(t *testing.T) {
 		t.Errorf("NORM file: %v, warnings %v", err, warn)
 	}
 }
+
+func TestProfileStepOutsideWindow(t *testing.T) {
+	steps := erfProfile(50, 10, 10, 100, 0.01, 6)
+	short, err := steps[3].Spectrum.Window(380, 420)
+	if err != nil {
+		t.Fatal(err)
+	}
+	steps[3].Spectrum = short
+	_, err = Profile(context.Background(), steps, testRefs(2), ProfileOptions{Fit: fit.Options{MaxShift: 1}})
+	var ie *lineshape.InputError
+	if !errors.As(err, &ie) || !strings.Contains(err.Error(), "step 3 (synthetic step 3)") || !strings.Contains(err.Error(), "shorter than the fit window") {
+		t.Errorf("err = %v, want an InputError naming step 3", err)
+	}
+}
