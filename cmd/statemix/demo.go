@@ -341,7 +341,7 @@ func runDemo(app *App, opts *demoOptions) (*demoSummary, error) {
 	sum.Outputs = append(sum.Outputs, "reports/barrier-depth.html", "reports/barrier-depth.svg", "reports/barrier-depth.csv")
 
 	// 6. The fraction map of the pad.
-	mapOut := "map/pad-P3-maps"
+	mapOut := "map/pad-P7-maps"
 	if _, err := d.exec(true, "map", files.Map, "--refs", "Al foil,Al2O3 film", "--modulation", fmt.Sprint(demoAlModEV), "--out", mapOut); err != nil {
 		return nil, err
 	}
@@ -387,7 +387,8 @@ const demoIntro = `statemix demo: a worked example on INVENTED, FULLY SYNTHETIC 
 
 The Northgate process lab (invented) annealed wafer NG-0412 at 450 °C and asks:
   1. Did the TiN diffusion barrier on die 7 oxidise, and how deep does the oxide go?
-  2. How thick is the native oxide on aluminium bond pad P3?
+  2. How thick is the native oxide on aluminium bond pad P3, and where has the
+     cleaned pad P7 corroded?
 The demo makes up the lab's standards and measurements from model lineshapes
 (asymmetric Auger lines with plasmon and loss structure, a power-law
 secondary-electron background, counting noise, lock-in detection) with fixed
@@ -414,10 +415,11 @@ func writeDemoSummary(w io.Writer, s *demoSummary) {
 		fmt.Fprintf(w, "  profile %s %s found %.2f nm width %.2f nm  planted %.2f nm width %.2f nm\n",
 			x.State, dir, x.DepthNM, x.WidthNM, t.InterfaceNM, t.InterfaceWidthNM)
 	}
-	fmt.Fprintf(w, "\nMap of pad P3 (%d x %d pixels), mean fraction over the image:\n", t.MapW, t.MapH)
+	fmt.Fprintf(w, "\nMap of the cleaned pad P7 (%d x %d pixels), mean fraction over the image:\n", t.MapW, t.MapH)
 	for _, st := range demoKeys(s.MapMean) {
 		fmt.Fprintf(w, "  map %s found %.3f  planted %.3f\n", st, s.MapMean[st], t.MapMean[st])
 	}
+	writeDemoAnswers(w, s)
 	fmt.Fprint(w, `
 Reading the fits: a reduced chi-square near 2 is expected here. Lock-in
 detection correlates the noise over the modulation width, so the noise
@@ -428,7 +430,44 @@ that correlation (block bootstrap for fit, corrected covariance for profile).
 	for _, o := range s.Outputs {
 		fmt.Fprintf(w, "  %s\n", filepath.Join(s.Dir, o))
 	}
+	fmt.Fprint(w, `
+With your own data: add your standards to a library (statemix library add FILE
+--element EL --transition T --state S --name NAME), then statemix fit FILE
+--suggest, statemix profile and statemix map as above; statemix help COMMAND
+explains every flag.
+`)
 	fmt.Fprintf(w, "\nAll data above are synthetic. Demo finished in %.1f s; its files stay in %s.\n", s.Seconds, s.Dir)
+}
+
+// writeDemoAnswers answers the invented lab's two questions from what
+// statemix found.
+func writeDemoAnswers(w io.Writer, s *demoSummary) {
+	find := func(fs []demoFraction, state string) (demoFraction, bool) {
+		for _, f := range fs {
+			if f.State == state {
+				return f, true
+			}
+		}
+		return demoFraction{}, false
+	}
+	fmt.Fprintln(w, "\nAnswers for the (invented) lab:")
+	if ox, ok := find(s.Barrier, "oxide"); ok && !ox.AtBound {
+		fmt.Fprintf(w, "  1. The barrier oxidised: at spot B2, %.1f ± %.1f %% of the Ti signal is TiO2", 100*ox.Fraction, 100*ox.SD)
+	} else {
+		fmt.Fprint(w, "  1. No TiO2 signal at spot B2")
+	}
+	for _, x := range s.Interfaces {
+		if x.State == "oxide" && !x.Rising {
+			fmt.Fprintf(w, ";\n     the depth profile puts the TiO2/TiN interface at %.2f nm", x.DepthNM)
+		}
+	}
+	fmt.Fprintln(w, ".")
+	fmt.Fprintf(w, "  2. Pad P3 carries %.2f ± %.2f nm of native oxide", s.PadThicknessNM, s.PadThicknessSDNM)
+	fmt.Fprintln(w, ".")
+	if v, ok := s.MapMean["oxide"]; ok {
+		fmt.Fprintf(w, "     On the cleaned pad P7 the oxide averages %.1f %% of the Al signal, and\n", 100*v)
+		fmt.Fprintln(w, "     fraction-oxide.png shows where it corroded.")
+	}
 }
 
 func writeDemoFractions(w io.Writer, sample string, fs []demoFraction, truth map[string]float64) {

@@ -10,7 +10,8 @@ package main
 // P3? It records its own standards (Ti foil, TiN film and TiO2 film for the
 // Ti LMM lines; Al foil and an Al2O3 film for Al KLL), a spot on the
 // barrier, a spot on the pad, a sputter depth profile through the oxidised
-// barrier and a 32 x 32 spectrum image of the pad around a corrosion spot.
+// barrier, and a 32 x 32 spectrum image of pad P7, cleaned after the
+// anneal, around a corrosion spot.
 
 import (
 	"fmt"
@@ -181,7 +182,7 @@ func synthesizeDemo(dir string, progress func(done, total int)) (*demoTruth, *de
 		TiFoil: "standards/ti-foil.vms", TiN: "standards/tin-film.vms", TiO2: "standards/tio2-film.vms",
 		AlFoil: "standards/al-foil.csv", Al2O3: "standards/al2o3-film.csv",
 		Barrier: "unknowns/barrier-B2.vms", Pad: "unknowns/pad-P3.vms",
-		Profile: "profile/barrier-depth.vms", Map: "map/pad-P3-map.npy",
+		Profile: "profile/barrier-depth.vms", Map: "map/pad-P7-map.npy",
 	}
 	write := func(rel string, specs []*lineshape.Spectrum, fmtName string) error {
 		if err := format.WriteFile(filepath.Join(dir, rel), specs, fmtName); err != nil {
@@ -292,7 +293,7 @@ func synthesizeDemo(dir string, progress func(done, total int)) (*demoTruth, *de
 		return nil, nil, err
 	}
 
-	// Spectrum image of pad P3: oxide coefficient 0.25 with a corrosion
+	// Spectrum image of pad P7, cleaned: oxide coefficient 0.25 with a corrosion
 	// spot (Gaussian, 5 pixels) reaching 0.80, the rest metal; a charging
 	// shift growing from -0.3 to +0.3 eV across the image; 1/20 of the
 	// standards' dwell per pixel.

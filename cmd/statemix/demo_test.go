@@ -154,7 +154,7 @@ func TestDemo(t *testing.T) {
 	}
 
 	// The oxide map pixel by pixel.
-	arr, err := npy.ReadFile(filepath.Join(dir, "map", "pad-P3-maps", "fraction-oxide.npy"))
+	arr, err := npy.ReadFile(filepath.Join(dir, "map", "pad-P7-maps", "fraction-oxide.npy"))
 	if err != nil {
 		t.Fatal(err)
 	}
