@@ -452,7 +452,9 @@ func gatherReferences(app *App, unknown *lineshape.Spectrum, opts *fitOptions) (
 			return nil, err
 		}
 	}
-	if opts.Element != "" && len(opts.Refs) == 0 && len(opts.RefFiles) == 0 {
+	// --element alone fits with every reference of the element; with
+	// --suggest it only narrows the candidates the suggestion picks from.
+	if opts.Element != "" && len(opts.Refs) == 0 && len(opts.RefFiles) == 0 && opts.Suggest == 0 {
 		es, _ := st.Entries()
 		n := 0
 		for _, e := range es {
@@ -463,7 +465,7 @@ func gatherReferences(app *App, unknown *lineshape.Spectrum, opts *fitOptions) (
 				n++
 			}
 		}
-		if n == 0 && opts.Suggest == 0 {
+		if n == 0 {
 			return nil, badInputf("the library %s has no references of element %s", st.Dir(), opts.Element)
 		}
 	}

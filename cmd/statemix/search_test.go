@@ -205,9 +205,10 @@ func TestSearchLike(t *testing.T) {
 }
 
 // TestFitSuggestAndSave runs fit --suggest on a two-state Ti mixture with
-// four Ti states in the library (without --element: fit.go then uses every
-// reference of the element, not the suggestion), saves the run, and finds it again with
-// search: by kind, by what it was fitted with, and by similarity.
+// four Ti states in the library (with --element, which narrows the
+// candidates but must not add every reference of the element), saves the
+// run, and finds it again with search: by kind, by what it was fitted with,
+// and by similarity.
 func TestFitSuggestAndSave(t *testing.T) {
 	dir := filepath.Join(t.TempDir(), "lib")
 	st, err := library.Create(dir)
@@ -240,7 +241,7 @@ func TestFitSuggestAndSave(t *testing.T) {
 		t.Fatal(err)
 	}
 	code, out, errs := runApp(t, nil, "--library", dir, "--json", "fit", path, "--suggest",
-		"--uncertainty", "covariance", "--save")
+		"--element", "Ti", "--uncertainty", "covariance", "--save")
 	if code != 0 {
 		t.Fatalf("fit --suggest --save: exit %d\n%s", code, errs)
 	}
