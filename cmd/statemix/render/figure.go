@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"image/color"
 	"io"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -245,6 +246,12 @@ func FitFigure(res *fit.Result, title string) *Figure {
 	model := Line(cv.Energy, cv.Total, inkModel, 1.6, nil)
 	top.Add(model)
 	top.Legend.Add("model", model)
+	// Headroom above the curves for the legend (top right), so that it
+	// does not cover the highest peak: about 4 % of the range per legend row.
+	if lo, hi, ok := curvesRange(cv); ok && hi > lo {
+		rows := 2 + len(cv.Components)
+		top.Y.Min, top.Y.Max = lo-0.03*(hi-lo), hi+0.045*float64(rows)*(hi-lo)
+	}
 
 	bot := NewPlot("kinetic energy (eV)", "residual")
 	zero := Line([]float64{cv.Energy[0], cv.Energy[len(cv.Energy)-1]}, []float64{0, 0}, inkBack, 0.6, nil)
@@ -259,6 +266,27 @@ func FitFigure(res *fit.Result, title string) *Figure {
 	top.X.Tick.Label.Color = color.Transparent // the residual panel carries the energy labels
 	bot.X.Min, bot.X.Max = top.X.Min, top.X.Max
 	return &Figure{Panels: []Panel{{Plot: top, Weight: 3}, {Plot: bot, Weight: 1.2}}}
+}
+
+// curvesRange returns the smallest and largest finite value of the data,
+// the model and the components on their background.
+func curvesRange(cv fit.Curves) (lo, hi float64, ok bool) {
+	lo, hi = math.Inf(1), math.Inf(-1)
+	see := func(v float64) {
+		if !math.IsNaN(v) && !math.IsInf(v, 0) {
+			lo, hi = math.Min(lo, v), math.Max(hi, v)
+		}
+	}
+	for i := range cv.Data {
+		see(cv.Data[i])
+		see(cv.Total[i])
+		for _, c := range cv.Components {
+			if i < len(c) && i < len(cv.Background) {
+				see(c[i] + cv.Background[i])
+			}
+		}
+	}
+	return lo, hi, lo <= hi
 }
 
 func xys(x, y []float64) plotter.XYs {
