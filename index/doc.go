@@ -19,11 +19,13 @@
 // beam_current_na, modulation_ev, energy_lo_ev, energy_hi_ev, peak_ev,
 // feature_ev, sputter_time_s) take ranges; imported and acquired are
 // date-times. Energies are kinetic energies in eV, beam energy in keV,
-// current in nA, times in s. Queries use bleve's query-string syntax:
-// clauses separated by spaces are alternatives ranked by how many match,
-// "+" makes a clause required and "-" excludes:
+// current in nA, times in s. Queries use bleve's query-string syntax with
+// one rule of ours on top: a field clause (field:value) is required unless
+// it carries its own "+" or "-" ("-" excludes), while free words and
+// phrases only rank, so this selects Ti nitrides and ranks those that
+// mention a diffusion barrier first:
 //
-//	+element:Ti +state:nitride "diffusion barrier"
+//	element:Ti state:nitride "diffusion barrier"
 //	+beam_energy_kev:>=9.5 +beam_energy_kev:<=10.5
 //
 // # Similarity

@@ -50,7 +50,9 @@ func TestQueries(t *testing.T) {
 		want []string // names; the exact set of hits
 	}{
 		{"+element:Ti +state:nitride", []string{"TiN standard A", "TiN standard B"}},
-		{"+element:ti +state:NITRIDE", []string{"TiN standard A", "TiN standard B"}}, // keywords compare case-insensitively
+		{"element:Ti state:nitride", []string{"TiN standard A", "TiN standard B"}},                     // field clauses are required by default
+		{`element:Ti state:nitride "diffusion barrier"`, []string{"TiN standard A", "TiN standard B"}}, // the phrase only ranks
+		{"+element:ti +state:NITRIDE", []string{"TiN standard A", "TiN standard B"}},                   // keywords compare case-insensitively
 		{"element:Al", []string{"Al foil", "Al2O3 film"}},
 		{`note:"diffusion barrier"`, []string{"TiN standard A", "Cu foil"}}, // phrase: "barrier layer ... diffusion" is not
 		{`"diffusion barrier"`, []string{"TiN standard A", "Cu foil"}},      // default field

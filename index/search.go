@@ -51,16 +51,70 @@ func parseQuery(q string) (query.Query, error) {
 	if q == "" {
 		return bleve.NewMatchAllQuery(), nil
 	}
-	qq := bleve.NewQueryStringQuery(q)
+	qq := bleve.NewQueryStringQuery(requireFieldClauses(q))
 	if _, err := qq.Parse(); err != nil {
 		return nil, fmt.Errorf("query %q: %v", q, err)
 	}
 	return qq, nil
 }
 
+// requireFieldClauses marks every field clause (field:value) that has no
+// + or - prefix as required, so that "element:Ti state:nitride" selects Ti
+// nitrides, as an analyst reads it, instead of ranking everything that has
+// either. Free-text terms and phrases stay optional and only rank. Quoted
+// text is left alone.
+func requireFieldClauses(q string) string {
+	var b strings.Builder
+	inQuote, start := false, true
+	for i := 0; i < len(q); i++ {
+		c := q[i]
+		switch {
+		case c == '\\' && i+1 < len(q):
+			if start {
+				start = false
+				if fieldClause(q[i:]) {
+					b.WriteByte('+')
+				}
+			}
+			b.WriteByte(c)
+			i++
+			b.WriteByte(q[i])
+			continue
+		case c == '"':
+			if start {
+				start = false
+			}
+			inQuote = !inQuote
+		case !inQuote && (c == ' ' || c == '\t' || c == '\n'):
+			start = true
+		case start:
+			start = false
+			if c != '+' && c != '-' && fieldClause(q[i:]) {
+				b.WriteByte('+')
+			}
+		}
+		b.WriteByte(c)
+	}
+	return b.String()
+}
+
+// fieldClause reports whether the token at the start of s is field:value.
+func fieldClause(s string) bool {
+	for i := 0; i < len(s); i++ {
+		switch c := s[i]; {
+		case c == ':':
+			return i > 0
+		case c == '\\' || c == '"' || c == ' ' || c == '\t' || c == '\n':
+			return false
+		}
+	}
+	return false
+}
+
 // Search runs a query in bleve's query-string syntax (element:Ti
 // state:nitride "diffusion barrier"; numeric ranges as
-// beam_energy_kev:>=9.5) and returns the top hits by relevance, and the
+// beam_energy_kev:>=9.5), with field clauses required unless prefixed by
+// + or - (see requireFieldClauses), and returns the top hits by relevance, and the
 // total number of matches. top <= 0 means DefaultTop.
 func (x *Index) Search(q string, top int) ([]Hit, int, error) {
 	if top <= 0 {

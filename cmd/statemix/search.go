@@ -31,8 +31,9 @@ func newSearchCmd(app *App) *cobra.Command {
   statemix search 'element:Ti state:nitride "diffusion barrier"'
   statemix search '+element:Ti +beam_energy_kev:>=9.5 +beam_energy_kev:<=10.5'
 
-Clauses separated by spaces are alternatives ranked by how many match; a
-leading + makes a clause required, - excludes. Keyword fields match whole
+A field clause (field:value) must match unless it starts with + or -
+(- excludes); free words and quoted phrases without a field only rank the
+matches. Keyword fields match whole
 values case-insensitively, text fields match words, numeric fields take
 >, >=, <, <= and dates quoted RFC 3339 times. Without a query (or with
 --fields) it lists the fields.
