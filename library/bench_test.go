@@ -19,7 +19,7 @@ var benchLines = []struct{ el, tr string }{
 // small fit result; 300-channel derivative spectra at 0.5 eV, the line
 // shifted by -5 to +4.8 eV from the estimate. Invented data.
 func benchEntry(i int) *Entry {
-	l := benchLines[i%len(benchLines)]
+	l := benchLines[(i/4)%len(benchLines)]
 	e0, err := estimateEnergy(l.el, l.tr)
 	if err != nil {
 		panic(err)
@@ -32,7 +32,7 @@ func benchEntry(i int) *Entry {
 	if i%4 == 0 {
 		e.Kind = KindReference
 		e.Name = fmt.Sprintf("ref %d", i)
-		e.State = States[(i/len(benchLines))%4]
+		e.State = States[(i/(4*len(benchLines)))%4]
 	} else {
 		e.Kind = KindMeasurement
 		e.Name = fmt.Sprintf("run %d", i)
@@ -92,13 +92,19 @@ func BenchmarkAdd(b *testing.B) {
 	for _, n := range []int{100, 1000, 10000} {
 		b.Run(fmt.Sprintf("entries=%d", n), func(b *testing.B) {
 			s := benchLib(b, n)
+			// A Ti oxide in the middle of the Ti references' range, so
+			// the duplicate-state check has the most candidates.
+			e0, err := estimateEnergy("Ti", "L3M23M23")
+			if err != nil {
+				b.Fatal(err)
+			}
 			i := 0
 			for b.Loop() {
 				i++
 				e := benchEntry(0)
 				e.Name = fmt.Sprintf("new %d", i)
 				e.State = "oxide"
-				e.Spectrum = synth(310, 0.5, 300, 385+float64(i%10)*0.1, 3, 100, 0.2, uint64(1e6+i))
+				e.Spectrum = synth(e0-75, 0.5, 300, e0+float64(i%10)*0.1, 3, 100, 0.2, uint64(1e6+i))
 				if _, _, err := s.Add(e); err != nil {
 					b.Fatal(err)
 				}

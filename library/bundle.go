@@ -276,8 +276,8 @@ func (s *Store) Import(r io.Reader, opts ImportOptions) (*ImportResult, error) {
 	if err != nil {
 		return nil, err
 	}
-	c := s.writerCatalog(m, false)
-	byID := map[string]*Entry{} // entries of the bundle (and the library entries they match)
+	c := s.writerCatalog(m)
+	byID := map[string]*Entry{}  // entries of the bundle (and the library entries they match)
 	names := map[string]string{} // names taken by the bundle
 	taken := func(n string) (string, bool) {
 		if id, ok := names[n]; ok {

@@ -78,25 +78,37 @@ func rowOf(e *Entry) catRow {
 	return r
 }
 
-// catalog is a parsed catalogue.
+// catalog is a parsed catalogue. It is used by one goroutine.
 type catalog struct {
 	Revision int
-	rows     []catRow // sorted by ID
-	byID     map[string]int
-	byName   map[string][]int // clean rows only
+	rows     []catRow         // sorted by ID, each ID once
+	byName   map[string][]int // clean rows by name, built on first use
 }
 
-// newCatalog returns the catalogue of rows (in any order) at revision rev.
+// newCatalog returns the catalogue of rows (in any order, each ID once) at
+// revision rev.
 func newCatalog(rev int, rows []catRow) *catalog {
 	sort.Slice(rows, func(i, j int) bool { return rows[i].ID < rows[j].ID })
-	c := &catalog{Revision: rev, rows: rows, byID: make(map[string]int, len(rows)), byName: make(map[string][]int, len(rows))}
-	for i := range rows {
-		c.byID[rows[i].ID] = i
-		if !rows[i].Bad {
-			c.byName[rows[i].Name] = append(c.byName[rows[i].Name], i)
+	return &catalog{Revision: rev, rows: rows}
+}
+
+// index returns the row index of id.
+func (c *catalog) index(id string) (int, bool) {
+	i := sort.Search(len(c.rows), func(i int) bool { return c.rows[i].ID >= id })
+	return i, i < len(c.rows) && c.rows[i].ID == id
+}
+
+// named returns the indices of the clean rows named name.
+func (c *catalog) named(name string) []int {
+	if c.byName == nil {
+		c.byName = make(map[string][]int, len(c.rows))
+		for i := range c.rows {
+			if !c.rows[i].Bad {
+				c.byName[c.rows[i].Name] = append(c.byName[c.rows[i].Name], i)
+			}
 		}
 	}
-	return c
+	return c.byName[name]
 }
 
 // with returns a copy of c at revision rev without the rows of the ids in
@@ -109,18 +121,25 @@ func (c *catalog) with(rev int, drop []string, add []catRow) *catalog {
 	for _, r := range add {
 		skip[r.ID] = true
 	}
+	add = append([]catRow(nil), add...)
+	sort.Slice(add, func(i, j int) bool { return add[i].ID < add[j].ID })
 	rows := make([]catRow, 0, len(c.rows)+len(add))
-	for _, r := range c.rows {
-		if !skip[r.ID] {
-			rows = append(rows, r)
+	for _, r := range c.rows { // merge: both are sorted
+		if skip[r.ID] {
+			continue
 		}
+		for len(add) > 0 && add[0].ID < r.ID {
+			rows = append(rows, add[0])
+			add = add[1:]
+		}
+		rows = append(rows, r)
 	}
-	return newCatalog(rev, append(rows, add...))
+	return &catalog{Revision: rev, rows: append(rows, add...)}
 }
 
 // row returns the clean row of id.
 func (c *catalog) row(id string) (*catRow, bool) {
-	i, ok := c.byID[id]
+	i, ok := c.index(id)
 	if !ok || c.rows[i].Bad {
 		return nil, false
 	}
@@ -138,7 +157,7 @@ func (c *catalog) resolve(ref string) (*catRow, error) {
 	if row, ok := c.row(r); ok {
 		return row, nil
 	}
-	if is := c.byName[r]; len(is) == 1 {
+	if is := c.named(r); len(is) == 1 {
 		return &c.rows[is[0]], nil
 	} else if len(is) > 1 {
 		out := make([]string, len(is))
@@ -172,7 +191,7 @@ func (c *catalog) resolve(ref string) (*catRow, error) {
 
 // nameOwner returns the id of the clean entry named name other than self.
 func (c *catalog) nameOwner(name, self string) (string, bool) {
-	for _, i := range c.byName[name] {
+	for _, i := range c.named(name) {
 		if c.rows[i].ID != self {
 			return c.rows[i].ID, true
 		}
@@ -182,16 +201,17 @@ func (c *catalog) nameOwner(name, self string) (string, bool) {
 
 // dupCandidate reports whether x may be a duplicate-state match of e (see
 // duplicateWarnings): a clean reference of the same element, another state
-// and mode, a main feature within the tolerance widened by one channel step
-// (so that the exact check, which recomputes both features from the
-// spectra, decides), and a common energy range.
+// and mode, catalogued main features within the tolerance of
+// duplicateWarnings, and a common energy range. The exact check then
+// recomputes both features from the spectra. (A catalogue whose features
+// no longer match what MainFeature computes is stale; verify reports it.)
 func dupCandidate(e, x *catRow) bool {
 	if x.Bad || x.ID == e.ID || x.Kind != KindReference || x.Element != e.Element || x.State == e.State ||
 		x.Mode != e.Mode || !x.HasFeature || !e.HasFeature {
 		return false
 	}
 	st := math.Max(e.step(), x.step())
-	if math.Abs(e.Feature-x.Feature) > 3*st+1e-9 {
+	if math.Abs(e.Feature-x.Feature) > 2*st*(1+1e-9) {
 		return false
 	}
 	return math.Max(e.Lo, x.Lo) < math.Min(e.Hi, x.Hi)
@@ -232,8 +252,12 @@ func (c *catalog) encode() []byte {
 		if r.HasFeature {
 			feat = num(r.Feature)
 		}
-		b.WriteString(strings.Join([]string{r.ID, k, "ok", catQuote(r.Name), catQuote(r.Element), catQuote(r.Transition),
-			catQuote(r.State), catQuote(r.Mode), strconv.Itoa(r.N), num(r.Lo), num(r.Hi), feat}, "\t"))
+		for _, f := range [...]string{r.ID, k, "ok", catQuote(r.Name), catQuote(r.Element), catQuote(r.Transition),
+			catQuote(r.State), catQuote(r.Mode), strconv.Itoa(r.N), num(r.Lo), num(r.Hi)} {
+			b.WriteString(f)
+			b.WriteByte('\t')
+		}
+		b.WriteString(feat)
 		b.WriteByte('\n')
 	}
 	return b.Bytes()
@@ -261,11 +285,11 @@ func catUnquote(s string) (string, error) {
 
 // parseCatalog reads a catalogue file's bytes.
 func parseCatalog(b []byte) (*catalog, error) {
-	head, rest, ok := bytes.Cut(b, []byte("\n"))
+	head, rest, ok := strings.Cut(string(b), "\n")
 	if !ok {
 		return nil, errors.New("no header line")
 	}
-	hf := strings.Split(string(head), "\t")
+	hf := strings.Split(head, "\t")
 	if len(hf) != 4 || hf[0] != catalogFormat {
 		return nil, fmt.Errorf("header %q, want %s<TAB>%d<TAB>revision<TAB>count", head, catalogFormat, catalogVersion)
 	}
@@ -281,14 +305,14 @@ func parseCatalog(b []byte) (*catalog, error) {
 	line := 1
 	for len(rest) > 0 {
 		line++
-		var l []byte
-		l, rest, ok = bytes.Cut(rest, []byte("\n"))
+		var l string
+		l, rest, ok = strings.Cut(rest, "\n")
 		if !ok {
 			return nil, fmt.Errorf("line %d: not terminated (truncated file)", line)
 		}
-		f := strings.Split(string(l), "\t")
-		if len(f) != 12 {
-			return nil, fmt.Errorf("line %d: %d fields, want 12", line, len(f))
+		var f [12]string
+		if n := splitTabs(l, &f); n != 12 {
+			return nil, fmt.Errorf("line %d: %d fields, want 12", line, n)
 		}
 		r := catRow{ID: f[0]}
 		if !isID(r.ID) {
@@ -342,7 +366,28 @@ func parseCatalog(b []byte) (*catalog, error) {
 			return nil, fmt.Errorf("rows not sorted by id, or id %s twice", rows[i].ID)
 		}
 	}
-	return newCatalog(rev, rows), nil
+	return &catalog{Revision: rev, rows: rows}, nil
+}
+
+// splitTabs splits l at tabs into f and returns the number of fields (more
+// than len(f) if there are too many).
+func splitTabs(l string, f *[12]string) int {
+	n := 0
+	for {
+		i := strings.IndexByte(l, '\t')
+		if n < len(f) {
+			if i < 0 {
+				f[n] = l
+			} else {
+				f[n] = l[:i]
+			}
+		}
+		n++
+		if i < 0 {
+			return n
+		}
+		l = l[i+1:]
+	}
 }
 
 func digest(b []byte) string {
@@ -393,35 +438,40 @@ func (s *Store) readerCatalog() *catalog {
 	return nil
 }
 
-// listIDs returns the kind of every entry file name (<id>.json, no
-// temporary files) in refs/ and runs/.
-func (s *Store) listIDs() (map[string]Kind, error) {
-	out := map[string]Kind{}
+// listsFiles reports whether c lists exactly the entry files (<id>.json in
+// refs/ and runs/) there are.
+func (s *Store) listsFiles(c *catalog) bool {
+	files := make(map[string]Kind, len(c.rows))
 	for _, k := range []Kind{KindReference, KindMeasurement} {
 		f, err := os.Open(filepath.Join(s.dir, k.folder()))
-		if errors.Is(err, fs.ErrNotExist) {
-			continue
-		}
 		if err != nil {
-			return nil, err
+			return false
 		}
 		names, err := f.Readdirnames(-1)
 		f.Close()
 		if err != nil {
-			return nil, err
+			return false
 		}
-		for _, n := range names {
-			id, ok := strings.CutSuffix(n, ".json")
-			if ok && isID(id) {
-				if _, dup := out[id]; dup {
-					out[id] = "" // in both folders: no catalogue matches
-					continue
-				}
-				out[id] = k
+		for _, name := range names {
+			id, ok := strings.CutSuffix(name, ".json")
+			if !ok || !isID(id) {
+				continue
 			}
+			if _, dup := files[id]; dup {
+				return false
+			}
+			files[id] = k
 		}
 	}
-	return out, nil
+	if len(files) != len(c.rows) {
+		return false
+	}
+	for i := range c.rows {
+		if files[c.rows[i].ID] != c.rows[i].Kind {
+			return false
+		}
+	}
+	return true
 }
 
 // writerCatalog returns the catalogue for a writer holding the lock, whose
@@ -430,22 +480,9 @@ func (s *Store) listIDs() (map[string]Kind, error) {
 // older version wrote the library, a write was interrupted, or files were
 // added or removed by hand). The rebuilt one is written with the writer's
 // manifest, so the next writer finds it again.
-func (s *Store) writerCatalog(m *manifest, forceScan bool) *catalog {
-	if !forceScan {
-		if c, err := readCatalog(s.dir, m); err == nil {
-			if files, err := s.listIDs(); err == nil && len(files) == len(c.rows) {
-				same := true
-				for i := range c.rows {
-					if files[c.rows[i].ID] != c.rows[i].Kind {
-						same = false
-						break
-					}
-				}
-				if same {
-					return c
-				}
-			}
-		}
+func (s *Store) writerCatalog(m *manifest) *catalog {
+	if c, err := readCatalog(s.dir, m); err == nil && s.listsFiles(c) {
+		return c
 	}
 	return s.scanCatalog(m.Revision)
 }

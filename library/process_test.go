@@ -66,10 +66,13 @@ func helper(mode string) error {
 			}
 		}
 		return nil
-	case "crash-entry", "crash-manifest":
+	case "crash-entry", "crash-manifest", "crash-catalog":
 		target := "refs"
-		if mode == "crash-manifest" {
+		switch mode {
+		case "crash-manifest":
 			target = manifestName
+		case "crash-catalog":
+			target = catalogName
 		}
 		testHookAfterTemp = func(tmp string) error {
 			if strings.Contains(tmp, target) {

@@ -563,7 +563,7 @@ func (s *Store) Add(es ...*Entry) ([]*Entry, []Warning, error) {
 	if err != nil {
 		return nil, nil, err
 	}
-	c := s.writerCatalog(m, false)
+	c := s.writerCatalog(m)
 	if err := s.checkNew(es, c); err != nil {
 		return nil, nil, err
 	}
@@ -810,7 +810,7 @@ func (s *Store) Remove(ref string) (*Entry, error) {
 // entry file no longer says what the catalogue does (a file changed by
 // hand), the catalogue is rebuilt from the files and ref resolved again.
 func (s *Store) resolveLocked(m *manifest, ref string) (*catalog, *Entry, error) {
-	c := s.writerCatalog(m, false)
+	c := s.writerCatalog(m)
 	row, err := c.resolve(ref)
 	if err != nil {
 		return nil, nil, err

@@ -370,7 +370,7 @@ func catalogDiff(dir string, m *manifest, files map[string]catRow, revs map[stri
 	}
 	var diff []string
 	for id, f := range files {
-		i, ok := c.byID[id]
+		i, ok := c.index(id)
 		if !ok {
 			if f.Bad || revs[id] <= c.Revision {
 				diff = append(diff, id)
