@@ -48,6 +48,7 @@ Start with statemix demo, which runs the whole workflow on invented data.`,
 		newConvertCmd(app),
 		newCalcCmd(app),
 		newDemoCmd(app),
+		newDocsCmd(app),
 		newVersionCmd(app),
 	)
 	// Cobra adds "completion" (bash, zsh, fish, powershell) by itself.
