@@ -38,5 +38,10 @@
 // Overlayer.Thickness gives an oxide thickness on its metal by the
 // Strohmeier (1990) equation.
 //
+// FitCoefficients carries a fit's coefficients with their covariance or
+// bootstrap samples as plain numbers, so that this package need not know
+// the fit's types: with StandardFactors it gives atomic fractions, and its
+// Pair with StandardsOverlayer gives an overlayer thickness.
+//
 // Functions leave their arguments alone and return new slices.
 package quant
