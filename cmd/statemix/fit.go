@@ -668,23 +668,11 @@ func writeReport(app *App, opts *fitOptions, res *fit.Result, extra []render.Sec
 	info := render.ReportInfo{InputFile: opts.File, InputSHA256: opts.inputSHA256, Block: opts.Block - 1,
 		Settings: settings, LibraryDir: opts.libDir, LibraryRevision: int64(opts.libRevision),
 		Version: Version, Generated: app.Now(), Command: opts.command, Extra: extra}
-	f, err := os.CreateTemp(filepath.Dir(opts.Report), ".statemix-report-*")
+	err := writeFileAtomically(opts.Report, func(w io.Writer) error { return render.FitReport(w, res, info) })
 	if err != nil {
-		return err
-	}
-	defer os.Remove(f.Name())
-	if err := render.FitReport(f, res, info); err != nil {
-		f.Close()
 		return fmt.Errorf("--report %s: %w", opts.Report, err)
 	}
-	if err := f.Chmod(0o644); err != nil {
-		f.Close()
-		return err
-	}
-	if err := f.Close(); err != nil {
-		return err
-	}
-	return os.Rename(f.Name(), opts.Report)
+	return nil
 }
 
 // atomicFraction is one state's matrix-corrected atomic fraction.

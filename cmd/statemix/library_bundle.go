@@ -3,8 +3,8 @@ package main
 import (
 	"bufio"
 	"fmt"
+	"io"
 	"os"
-	"path/filepath"
 	"strings"
 
 	"github.com/spf13/cobra"
@@ -67,7 +67,7 @@ func runLibraryExport(app *App, o *libraryExportOptions) error {
 		return err
 	}
 	var res *library.ExportResult
-	err = writeFileAtomically(o.File, func(w *bufio.Writer) error {
+	err = writeFileAtomically(o.File, func(w io.Writer) error {
 		var err error
 		res, err = st.Export(w, library.ExportOptions{Match: f.Match, Query: o.Query})
 		return err
@@ -87,45 +87,6 @@ func runLibraryExport(app *App, o *libraryExportOptions) error {
 		return writeJSON(app.Out, exportedJSON{Schema: "statemix.exported/v1", File: o.File, Entries: refsOf(res.Entries), Problems: problems})
 	}
 	fmt.Fprintf(app.Out, "exported %d %s to %s\n", len(res.Entries), plural(len(res.Entries), "entry", "entries"), o.File)
-	return nil
-}
-
-// writeFileAtomically writes path through fill: a temporary file in the
-// same folder, flushed, fsynced and renamed over path only if fill
-// succeeds.
-func writeFileAtomically(path string, fill func(*bufio.Writer) error) error {
-	dir, base := filepath.Split(path)
-	if dir == "" {
-		dir = "."
-	}
-	tmp, err := os.CreateTemp(dir, "."+base+".tmp-*")
-	if err != nil {
-		return err
-	}
-	done := false
-	defer func() {
-		if !done {
-			tmp.Close()
-			os.Remove(tmp.Name())
-		}
-	}()
-	w := bufio.NewWriter(tmp)
-	if err := fill(w); err != nil {
-		return err
-	}
-	if err := w.Flush(); err != nil {
-		return err
-	}
-	if err := tmp.Sync(); err != nil {
-		return err
-	}
-	if err := tmp.Close(); err != nil {
-		return err
-	}
-	if err := os.Rename(tmp.Name(), path); err != nil {
-		return err
-	}
-	done = true
 	return nil
 }
 

@@ -8,7 +8,6 @@ import (
 	"fmt"
 	"io"
 	"math"
-	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
@@ -145,7 +144,7 @@ func runProfile(app *App, opts *profileOptions) error {
 	res.Warnings = append(warnings, res.Warnings...)
 	doc := buildProfileDocument(opts, res)
 	if opts.CSV != "" {
-		if err := writeAtomicFile(opts.CSV, func(w io.Writer) error { return writeProfileCSV(w, res) }); err != nil {
+		if err := writeFileAtomically(opts.CSV, func(w io.Writer) error { return writeProfileCSV(w, res) }); err != nil {
 			return fmt.Errorf("--csv %s: %w", opts.CSV, err)
 		}
 	}
@@ -155,7 +154,7 @@ func runProfile(app *App, opts *profileOptions) error {
 		}
 	}
 	if opts.Report != "" {
-		if err := writeAtomicFile(opts.Report, func(w io.Writer) error { return profilePage(app, opts, res).Write(w) }); err != nil {
+		if err := writeFileAtomically(opts.Report, func(w io.Writer) error { return profilePage(app, opts, res).Write(w) }); err != nil {
 			return fmt.Errorf("--report %s: %w", opts.Report, err)
 		}
 	}
@@ -464,26 +463,4 @@ func profilePage(app *App, opts *profileOptions, res *series.ProfileResult) *ren
 		pg.Sections = append(pg.Sections, render.Section{Heading: "Warnings", Blocks: []render.Block{render.Warnings(res.Warnings)}})
 	}
 	return pg
-}
-
-// writeAtomicFile writes path through fill into a temporary file in the
-// same folder and renames it into place only when complete.
-func writeAtomicFile(path string, fill func(io.Writer) error) (err error) {
-	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp*")
-	if err != nil {
-		return err
-	}
-	defer func() {
-		if err != nil {
-			f.Close()
-			os.Remove(f.Name())
-		}
-	}()
-	if err = fill(f); err != nil {
-		return err
-	}
-	if err = f.Close(); err != nil {
-		return err
-	}
-	return os.Rename(f.Name(), path)
 }
