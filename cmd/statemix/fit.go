@@ -24,7 +24,6 @@ import (
 	"statemix/lineshape"
 	"statemix/lineshape/fit"
 	"statemix/lineshape/format"
-	"statemix/lineshape/quant"
 )
 
 // fitOptions holds the flag values of statemix fit and what runFit derives
@@ -347,16 +346,20 @@ func runFit(app *App, opts *fitOptions) error {
 	doc := buildFitDocument(opts, unknown, res)
 	opts.doc = doc
 	var extra []render.Section
-	if opts.Atomic {
-		at, err := atomicFractions(opts, res)
+	q, err := newQuantifier(opts, res.Components, res.Window)
+	if err != nil {
+		return err
+	}
+	if q != nil && q.atomic {
+		at, err := q.atomicFractions(res)
 		if err != nil {
 			return err
 		}
 		doc.Atomic = at
 		extra = append(extra, atomicSection(at))
 	}
-	if opts.Overlayer != "" {
-		ov, err := overlayerThickness(opts, unknown, res)
+	if q != nil && q.overlayer {
+		ov, err := fitOverlayer(q, unknown, res)
 		if err != nil {
 			return err
 		}
@@ -673,233 +676,4 @@ func writeReport(app *App, opts *fitOptions, res *fit.Result, extra []render.Sec
 		return fmt.Errorf("--report %s: %w", opts.Report, err)
 	}
 	return nil
-}
-
-// atomicFraction is one state's matrix-corrected atomic fraction.
-type atomicFraction struct {
-	Ref      string  `json:"ref"`
-	State    string  `json:"state"`
-	Compound string  `json:"compound"`
-	Factor   float64 `json:"factor"` // N L (1 + r), atoms/cm3 x nm
-	Fraction float64 `json:"atomic_fraction"`
-	SD       float64 `json:"atomic_fraction_sd"`
-}
-
-// compoundOf returns the material of a component's reference.
-func compoundOf(opts *fitOptions, c fit.Component) (quant.Material, error) {
-	var formula string
-	var ov quant.Override
-	if e, ok := opts.entries[c.Ref]; ok {
-		formula = e.Compound
-		if e.Density > 0 {
-			ov.Density = &e.Density
-		}
-		if e.Valence > 0 {
-			ov.ValenceElectrons = &e.Valence
-		}
-		if e.BandGap > 0 {
-			ov.BandGap = &e.BandGap
-		}
-	} else if ex, ok := opts.refExtra[c.Ref]; ok {
-		formula = ex["compound"]
-	}
-	if formula == "" {
-		if c.State == "metal" && c.Element != "" {
-			formula = c.Element
-		} else {
-			return quant.Material{}, badInputf("reference %s (%s) has no compound: set it (statemix library edit REF --set compound=FORMULA)", label(c), c.State)
-		}
-	}
-	m, err := quant.ResolveMaterial(formula, ov)
-	if err != nil {
-		return m, badInputf("reference %s: %v", label(c), err)
-	}
-	return m, nil
-}
-
-func label(c fit.Component) string {
-	if c.Name != "" {
-		return c.Name
-	}
-	return c.Ref
-}
-
-// atomicFractions converts the fitted coefficients to atomic fractions
-// with quant.AtomicFractions, at the centre of the fit window.
-func atomicFractions(opts *fitOptions, res *fit.Result) ([]atomicFraction, error) {
-	energy := (res.Window[0] + res.Window[1]) / 2
-	k := len(res.Components)
-	factors := make([]float64, k)
-	c := make([]float64, k)
-	out := make([]atomicFraction, k)
-	for i, comp := range res.Components {
-		if comp.Element == "" {
-			return nil, badInputf("--atomic: reference %s names no element", label(comp))
-		}
-		m, err := compoundOf(opts, comp)
-		if err != nil {
-			return nil, err
-		}
-		f, _, err := quant.StandardFactor(m, comp.Element, energy, 0)
-		if err != nil {
-			return nil, badInputf("--atomic: reference %s: %v", label(comp), err)
-		}
-		factors[i], c[i] = f, comp.Coefficient
-		out[i] = atomicFraction{Ref: comp.Ref, State: comp.State, Compound: m.Formula, Factor: f}
-	}
-	x, sd, err := quant.AtomicFractions(c, res.CoefficientCovariance(), factors)
-	if err != nil {
-		return nil, badInputf("--atomic: %v", err)
-	}
-	if res.Uncertainty == fit.Bootstrap && res.Samples != nil && len(res.Samples.Coefficients) > 1 {
-		if _, _, bsd, _, err := quant.AtomicFractionSamples(res.Samples.Coefficients, factors); err == nil {
-			sd = bsd
-		}
-	}
-	for i := range out {
-		out[i].Fraction = x[i]
-		if sd != nil && !math.IsNaN(sd[i]) {
-			out[i].SD = sd[i]
-		}
-	}
-	return out, nil
-}
-
-func atomicTable(at []atomicFraction) *render.Table {
-	t := &render.Table{Header: []string{"state", "compound", "atomic fraction"}, Right: []bool{false, false, true}}
-	for _, a := range at {
-		t.Rows = append(t.Rows, []string{a.State, a.Compound, fmt.Sprintf("%.3f ± %.3f", a.Fraction, a.SD)})
-	}
-	return t
-}
-
-func atomicSection(at []atomicFraction) render.Section {
-	return render.Section{Heading: "Atomic fractions", Blocks: []render.Block{
-		render.TableBlock(atomicTable(at)),
-		render.Paragraph("Matrix-corrected with N L of each reference's compound (TPP-2M IMFP at the window centre, equal backscattering); valid for a sample homogeneous within the analysed depth."),
-	}}
-}
-
-// overlayerResult is the --overlayer thickness.
-type overlayerResult struct {
-	Overlayer   string   `json:"overlayer_state"`
-	Substrate   string   `json:"substrate_state"`
-	ThicknessNM float64  `json:"thickness_nm"`
-	SDNM        float64  `json:"thickness_sd_nm"`
-	Ratio       float64  `json:"ratio"`
-	TakeOffDeg  float64  `json:"take_off_deg"`
-	Method      string   `json:"method"`
-	Warnings    []string `json:"-"`
-}
-
-func overlayerThickness(opts *fitOptions, unknown *lineshape.Spectrum, res *fit.Result) (*overlayerResult, error) {
-	ox, sub, ok := strings.Cut(opts.Overlayer, ":")
-	if !ok || ox == "" || sub == "" || ox == sub {
-		return nil, usageErrorf("--overlayer %q: want OXIDE_STATE:SUBSTRATE_STATE, e.g. oxide:metal", opts.Overlayer)
-	}
-	find := func(state string) (int, error) {
-		idx := -1
-		for i, c := range res.Components {
-			if c.State == state {
-				if idx >= 0 {
-					return 0, usageErrorf("--overlayer: two references have state %s", state)
-				}
-				idx = i
-			}
-		}
-		if idx < 0 {
-			return 0, usageErrorf("--overlayer: no reference has state %s", state)
-		}
-		return idx, nil
-	}
-	io_, err := find(ox)
-	if err != nil {
-		return nil, err
-	}
-	is, err := find(sub)
-	if err != nil {
-		return nil, err
-	}
-	co, cs := res.Components[io_], res.Components[is]
-	energy := (res.Window[0] + res.Window[1]) / 2
-	mo, err := compoundOf(opts, co)
-	if err != nil {
-		return nil, err
-	}
-	ms, err := compoundOf(opts, cs)
-	if err != nil {
-		return nil, err
-	}
-	el := co.Element
-	if el == "" {
-		el = cs.Element
-	}
-	no, err1 := quant.AtomicDensity(mo, el)
-	ns, err2 := quant.AtomicDensity(ms, el)
-	lo, err3 := quant.TPP2M(mo, energy)
-	ls, err4 := quant.TPP2M(ms, energy)
-	if err := errors.Join(err1, err2, err3, err4); err != nil {
-		return nil, badInputf("--overlayer: %v", err)
-	}
-	theta := 0.0
-	if opts.TakeOffSet {
-		theta = opts.TakeOff
-	} else if unknown.Meta.TakeOffDeg > 0 {
-		theta = unknown.Meta.TakeOffDeg
-	}
-	o := quant.Overlayer{NOverlayer: no, NSubstrate: ns, LambdaOverlayer: lo.IMFP, LambdaSubstrate: ls.IMFP,
-		TakeOffDeg: theta, SensitivityRatio: 1}
-	cf := quant.Coefficients{Overlayer: co.Coefficient, Substrate: cs.Coefficient,
-		OverlayerAtBound: co.AtBound, SubstrateAtBound: cs.AtBound}
-	if res.Uncertainty == fit.Bootstrap && res.Samples != nil && len(res.Samples.Coefficients) > 1 {
-		cf.VarOverlayer, cf.VarSubstrate, cf.Covariance = sampleCov(res.Samples.Coefficients, io_, is)
-	} else if cov := res.CoefficientCovariance(); cov != nil {
-		cf.VarOverlayer, cf.VarSubstrate, cf.Covariance = cov.At(io_, io_), cov.At(is, is), cov.At(io_, is)
-	}
-	t, err := o.ThicknessFromCoefficients(cf)
-	if err != nil {
-		var oe *quant.OverlayerError
-		if errors.As(err, &oe) {
-			return nil, badInput(err)
-		}
-		return nil, err
-	}
-	sd := t.SD
-	if math.IsNaN(sd) {
-		sd = 0
-	}
-	return &overlayerResult{Overlayer: ox, Substrate: sub, ThicknessNM: t.Thickness, SDNM: sd, Ratio: t.Ratio,
-		TakeOffDeg: t.TakeOff, Method: t.Method, Warnings: t.Warnings}, nil
-}
-
-// sampleCov returns the sample variances of columns a and b and their
-// covariance.
-func sampleCov(rows [][]float64, a, b int) (va, vb, cab float64) {
-	n := float64(len(rows))
-	var ma, mb float64
-	for _, r := range rows {
-		ma += r[a]
-		mb += r[b]
-	}
-	ma /= n
-	mb /= n
-	for _, r := range rows {
-		va += (r[a] - ma) * (r[a] - ma)
-		vb += (r[b] - mb) * (r[b] - mb)
-		cab += (r[a] - ma) * (r[b] - mb)
-	}
-	return va / (n - 1), vb / (n - 1), cab / (n - 1)
-}
-
-func overlayerSection(ov *overlayerResult) render.Section {
-	return render.Section{Heading: "Overlayer thickness", Blocks: []render.Block{
-		render.KeyValues([][2]string{
-			{"overlayer / substrate", ov.Overlayer + " on " + ov.Substrate},
-			{"thickness", fmt.Sprintf("%.3g ± %.2g nm", ov.ThicknessNM, ov.SDNM)},
-			{"coefficient ratio", fmt.Sprintf("%.4g", ov.Ratio)},
-			{"take-off angle", fmt.Sprintf("%.3g° from the surface", ov.TakeOffDeg)},
-			{"model", ov.Method},
-		}),
-		render.Warnings(ov.Warnings),
-	}}
 }
