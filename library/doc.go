@@ -6,12 +6,14 @@
 // A library is a folder:
 //
 //	<library>/library.json     manifest {"format":"statemix-library","version":1,"revision":N,...}
+//	<library>/catalog.tsv      catalogue: one line of labels per entry file (derived)
 //	<library>/refs/<id>.json   one reference: metadata and spectrum
 //	<library>/runs/<id>.json   one archived measurement and its fit result
 //	<library>/index/           owned by package index; library never writes it
 //	<library>/.lock            writer lock (flock), holds the holder's PID
 //
-// The JSON entry files are the truth. Every value written round trips
+// The JSON entry files are the truth; the catalogue and the index are
+// derived from them and can always be rebuilt. Every value written round trips
 // bit-identically: float64 values are written by encoding/json in the
 // shortest form that parses back to the same bits.
 //
@@ -26,6 +28,29 @@
 // is addressed by its ID, a unique ID prefix of at least 4 characters, or
 // its unique name ([Store.Resolve]).
 //
+// # Catalogue
+//
+// So that a write or a lookup need not read every entry file, the
+// catalogue holds per entry file its id, kind, name, element, transition,
+// state, spectrum mode, channel count, energy range and main-feature
+// energy (see catalog.go for the format). library.json records the SHA-256
+// of the catalogue written with it (field catalog_sha256; readers of
+// version 1 ignore it). Add, Edit, Remove and Import check ids and names
+// against the catalogue and read only the entry files they need: for the
+// duplicate-state check, the references of the same element, another state
+// and mode whose catalogued main feature is within the tolerance, after
+// which the check on the spectra themselves decides. Resolve reads one
+// entry file for a name or prefix. A writer trusts the catalogue only if
+// its digest and revision match the manifest and it lists exactly the
+// entry files present (one directory listing); otherwise (a library
+// written by an older version, a write interrupted after an entry file was
+// renamed into place, files added or removed by hand) it reads every entry
+// file, as a repair would, and writes a fresh catalogue with its manifest.
+// Readers without a matching catalogue read every entry file's head. Labels
+// changed by hand in an entry file are not noticed by the catalogue until
+// VerifyDir, which compares it with the files and reports ProblemCatalog;
+// a repair rebuilds it (a rebuilt catalogue keeps the revision).
+//
 // # Safety
 //
 // Every write goes to a temporary file in the destination folder, is
@@ -38,10 +63,13 @@
 //
 // A write that is interrupted leaves the library valid: an entry file is
 // either the old or the new one, and a temporary file may be left behind.
-// Writers write entry files first and the manifest last, so an interrupted
-// Add or Edit can leave an entry whose revision is above the manifest's;
-// VerifyDir reports both, and a repair removes the temporary file and
-// raises the revision. An interrupted Remove leaves no trace in the
+// Writers write entry files first, then the manifest, then the catalogue,
+// so an interrupted Add or Edit can leave an entry whose revision is above
+// the manifest's; VerifyDir reports both, and a repair removes the
+// temporary file and raises the revision. A write interrupted after its
+// manifest leaves a catalogue the manifest does not record: the write has
+// landed, lookups read the entry files until the next write or a repair
+// rebuilds the catalogue. An interrupted Remove leaves no trace in the
 // manifest; the index check of verify finds the entry the index still
 // holds.
 //

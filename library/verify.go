@@ -268,12 +268,11 @@ func verifyDir(dir string, opts VerifyOptions, s *Store) (*Report, error) {
 			m = m2
 		}
 	}
-	var catProblem *Problem
+	catProblem := -1 // index in rep.Problems
 	if merr == nil {
 		if why := s.checkCatalog(m, files, revs, !opts.Repair); why != "" {
-			rep.Problems = append(rep.Problems, Problem{Path: catalogName, Code: ProblemCatalog,
-				Message: why + "; writers and lookups read every entry file until it is rebuilt: repair (or the next write) rebuilds it"})
-			catProblem = &rep.Problems[len(rep.Problems)-1]
+			catProblem = len(rep.Problems)
+			add(catalogName, ProblemCatalog, why+"; writers and lookups read every entry file until it is rebuilt: repair (or the next write) rebuilds it", false)
 		}
 	}
 	if merr == nil && maxRev > m.Revision {
@@ -289,14 +288,14 @@ func verifyDir(dir string, opts VerifyOptions, s *Store) (*Report, error) {
 				repaired = true
 			}
 		}
-		if catProblem != nil {
-			catProblem.Repaired = repaired
-			catProblem = nil
+		if catProblem >= 0 {
+			rep.Problems[catProblem].Repaired = repaired // the commit wrote a fresh catalogue
+			catProblem = -1
 		}
 		add(manifestName, ProblemRevision, fmt.Sprintf("revision %d is behind entries written at revision %d (an interrupted write); repair raises it", m.Revision, maxRev), repaired)
 	}
-	if catProblem != nil && opts.Repair {
-		catProblem.Repaired = s.writeManifestCatalog(m, scanned(m.Revision)) == nil
+	if catProblem >= 0 && opts.Repair {
+		rep.Problems[catProblem].Repaired = s.writeManifestCatalog(m, scanned(m.Revision)) == nil
 	}
 	if m != nil {
 		rep.Revision = m.Revision
