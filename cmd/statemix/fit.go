@@ -108,46 +108,78 @@ library revision) needed to reproduce the result.`,
 			return runFit(app, opts)
 		},
 	}
+	registerModelFlags(app, cmd, opts, modelFlags{Uncertainty: "bootstrap", Like: "the unknown", Overlap: "unknown"})
+	registerQuantFlags(cmd, opts)
 	f := cmd.Flags()
 	f.IntVar(&opts.Block, "block", 0, "fit the `N`-th spectrum of FILE, counting from 1 (needed when FILE holds several)")
+	f.StringVar(&opts.Plot, "plot", "", "draw the fit to `FILE.svg|.png`")
+	f.StringVar(&opts.Report, "report", "", "write a self-contained HTML report to `FILE.html`")
+	f.BoolVar(&opts.Save, "save", false, "archive the measurement and its fit in the library")
+	_ = cmd.MarkFlagFilename("plot", "svg", "png")
+	_ = cmd.MarkFlagFilename("report", "html")
+	_ = cmd.RegisterFlagCompletionFunc("block", cobra.NoFileCompletions)
+	return cmd
+}
+
+// modelFlags says how registerModelFlags words and sets up the model flags
+// of one command.
+type modelFlags struct {
+	// Uncertainty is the default of --uncertainty; if it is "", the command
+	// has no --uncertainty, --samples or --seed and fits with the
+	// covariance.
+	Uncertainty string
+	// Like is what --suggest compares the library with ("the unknown",
+	// "the first spectrum").
+	Like string
+	// Overlap is what the default window overlaps with the references
+	// ("unknown", "spectra").
+	Overlap string
+	// PerSpectrum says that --samples counts per spectrum.
+	PerSpectrum bool
+}
+
+// registerModelFlags registers on cmd the flags of the fit model that
+// statemix fit, profile and map share: the references (--refs, --ref-file,
+// --suggest, --element), the model (--modulation, --window, --shift,
+// --max-shift, --background, --normalize) and, when m.Uncertainty is set,
+// the uncertainty (--uncertainty, --samples, --seed), with their
+// completions. parseFitFlags reads them; each command adds its own.
+func registerModelFlags(app *App, cmd *cobra.Command, opts *fitOptions, m modelFlags) {
+	f := cmd.Flags()
 	f.StringSliceVar(&opts.Refs, "refs", nil, "library references by id, id prefix or name, comma-separated (`REF,REF,...`)")
 	f.StringArrayVar(&opts.RefFiles, "ref-file", nil, "a reference spectrum from `FILE[:state]` (repeatable)")
-	f.IntVar(&opts.Suggest, "suggest", 0, "add the `K` library references most like the unknown (--suggest alone: 4; write --suggest=K)")
+	f.IntVar(&opts.Suggest, "suggest", 0, "add the `K` library references most like "+m.Like+" (--suggest alone: 4; write --suggest=K)")
 	f.Lookup("suggest").NoOptDefVal = "4"
 	f.StringVar(&opts.Element, "element", "", "use every library reference of element `EL` (with --refs: check they are of EL)")
 	f.Float64Var(&opts.Modulation, "modulation", 0, "peak-to-peak modulation in `EV` for lock-in emulation (default the recorded one)")
-	f.StringVar(&opts.Window, "window", "", "fit window `LO:HI` in eV (default the overlap of unknown and references less the maximum shift)")
+	f.StringVar(&opts.Window, "window", "", "fit window `LO:HI` in eV (default the overlap of "+m.Overlap+" and references less the maximum shift)")
 	f.StringVar(&opts.Shift, "shift", "common", "energy shifts: none, common or each")
 	f.Float64Var(&opts.MaxShift, "max-shift", 3, "largest shift in `EV`")
 	f.IntVar(&opts.Background, "background", 1, "degree `DEG` of the polynomial background (-1 for none)")
 	f.StringVar(&opts.Normalize, "normalize", "none", "scale references first: none, peak-to-peak or area (changes what a fraction means)")
-	f.StringVar(&opts.Uncertainty, "uncertainty", "bootstrap", "uncertainty method: covariance or bootstrap")
-	f.IntVar(&opts.Samples, "samples", 300, "bootstrap samples `N`")
-	f.Uint64Var(&opts.Seed, "seed", 1, "bootstrap seed `N` (same seed, same result)")
-	f.StringVar(&opts.Plot, "plot", "", "draw the fit to `FILE.svg|.png`")
-	f.StringVar(&opts.Report, "report", "", "write a self-contained HTML report to `FILE.html`")
-	f.BoolVar(&opts.Save, "save", false, "archive the measurement and its fit in the library")
-	f.BoolVar(&opts.Atomic, "atomic", false, "also report atomic fractions (matrix-corrected with the references' compounds)")
-	f.StringVar(&opts.Overlayer, "overlayer", "", "overlayer thickness from the fit, `OXIDE_STATE:SUBSTRATE_STATE`")
-	f.Float64Var(&opts.TakeOff, "take-off", 0, "analyser take-off angle in `DEG` from the surface for --overlayer (default the file's, else 90)")
-
+	opts.Uncertainty, opts.Samples, opts.Seed = "covariance", 300, 1
 	enum := func(name string, vals ...string) {
 		_ = cmd.RegisterFlagCompletionFunc(name, cobra.FixedCompletions(vals, cobra.ShellCompDirectiveNoFileComp))
 	}
+	if m.Uncertainty != "" {
+		samples := "bootstrap samples `N`"
+		if m.PerSpectrum {
+			samples += " per spectrum"
+		}
+		f.StringVar(&opts.Uncertainty, "uncertainty", m.Uncertainty, "uncertainty method: covariance or bootstrap")
+		f.IntVar(&opts.Samples, "samples", 300, samples)
+		f.Uint64Var(&opts.Seed, "seed", 1, "bootstrap seed `N` (same seed, same result)")
+		enum("uncertainty", "covariance", "bootstrap")
+	}
 	enum("shift", "none", "common", "each")
 	enum("normalize", "none", "peak-to-peak", "area")
-	enum("uncertainty", "covariance", "bootstrap")
 	_ = cmd.RegisterFlagCompletionFunc("refs", completeRefs(app))
 	_ = cmd.RegisterFlagCompletionFunc("element", completeElements(app))
-	_ = cmd.RegisterFlagCompletionFunc("overlayer", func(*cobra.Command, []string, string) ([]string, cobra.ShellCompDirective) {
-		return []string{"oxide:metal", "nitride:metal", "carbide:metal", "silicide:metal"}, cobra.ShellCompDirectiveNoFileComp
-	})
-	_ = cmd.MarkFlagFilename("plot", "svg", "png")
-	_ = cmd.MarkFlagFilename("report", "html")
-	for _, n := range []string{"block", "suggest", "modulation", "window", "max-shift", "background", "samples", "seed", "take-off"} {
-		_ = cmd.RegisterFlagCompletionFunc(n, cobra.NoFileCompletions)
+	for _, n := range []string{"suggest", "modulation", "window", "max-shift", "background", "samples", "seed"} {
+		if f.Lookup(n) != nil {
+			_ = cmd.RegisterFlagCompletionFunc(n, cobra.NoFileCompletions)
+		}
 	}
-	return cmd
 }
 
 // reproduceCommand returns the command line with every flag that was set.

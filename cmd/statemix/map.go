@@ -62,7 +62,7 @@ not depend on --workers. Nothing is written if the run is interrupted.`,
 			return runMap(app, opts)
 		},
 	}
-	registerSeriesFitFlags(app, cmd, &opts.fitOptions, "")
+	registerModelFlags(app, cmd, &opts.fitOptions, modelFlags{Like: "the first pixel", Overlap: "spectra"})
 	f := cmd.Flags()
 	f.StringVar(&opts.Out, "out", "", "output folder `DIR` (default <CUBE>-map beside the cube)")
 	f.IntVar(&opts.Workers, "workers", 0, "fit with `N` goroutines (default all cores)")

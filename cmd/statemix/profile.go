@@ -22,48 +22,6 @@ import (
 	"statemix/lineshape/series"
 )
 
-// registerSeriesFitFlags registers on cmd the model flags of statemix fit
-// (same names, meanings and defaults as in fit.go) for the commands that
-// fit many spectra with one model. fit.go registers its flags inline, so
-// profile and map share this helper; parsing and reference gathering are
-// fit.go's own parseFitFlags and gatherReferences. uncertainty adds
-// --uncertainty (with the given default), --samples and --seed.
-func registerSeriesFitFlags(app *App, cmd *cobra.Command, opts *fitOptions, uncertainty string) {
-	f := cmd.Flags()
-	f.StringSliceVar(&opts.Refs, "refs", nil, "library references by id, id prefix or name, comma-separated (`REF,REF,...`)")
-	f.StringArrayVar(&opts.RefFiles, "ref-file", nil, "a reference spectrum from `FILE[:state]` (repeatable)")
-	f.IntVar(&opts.Suggest, "suggest", 0, "add the `K` library references most like the first spectrum (default 4 when given without a value)")
-	f.Lookup("suggest").NoOptDefVal = "4"
-	f.StringVar(&opts.Element, "element", "", "use every library reference of element `EL` (with --refs: check they are of EL)")
-	f.Float64Var(&opts.Modulation, "modulation", 0, "peak-to-peak modulation in `EV` for lock-in emulation (default the recorded one)")
-	f.StringVar(&opts.Window, "window", "", "fit window `LO:HI` in eV (default the overlap of spectra and references less the maximum shift)")
-	f.StringVar(&opts.Shift, "shift", "common", "energy shifts: none, common or each")
-	f.Float64Var(&opts.MaxShift, "max-shift", 3, "largest shift in `EV`")
-	f.IntVar(&opts.Background, "background", 1, "degree `DEG` of the polynomial background (-1 for none)")
-	f.StringVar(&opts.Normalize, "normalize", "none", "scale references first: none, peak-to-peak or area (changes what a fraction means)")
-	opts.Uncertainty, opts.Samples, opts.Seed = "covariance", 300, 1
-	if uncertainty != "" {
-		f.StringVar(&opts.Uncertainty, "uncertainty", uncertainty, "uncertainty method: covariance or bootstrap")
-		f.IntVar(&opts.Samples, "samples", 300, "bootstrap samples `N` per spectrum")
-		f.Uint64Var(&opts.Seed, "seed", 1, "bootstrap seed `N` (same seed, same result)")
-	}
-	enum := func(name string, vals ...string) {
-		_ = cmd.RegisterFlagCompletionFunc(name, cobra.FixedCompletions(vals, cobra.ShellCompDirectiveNoFileComp))
-	}
-	enum("shift", "none", "common", "each")
-	enum("normalize", "none", "peak-to-peak", "area")
-	if uncertainty != "" {
-		enum("uncertainty", "covariance", "bootstrap")
-	}
-	_ = cmd.RegisterFlagCompletionFunc("refs", completeRefs(app))
-	_ = cmd.RegisterFlagCompletionFunc("element", completeElements(app))
-	for _, n := range []string{"suggest", "modulation", "window", "max-shift", "background", "samples", "seed"} {
-		if f.Lookup(n) != nil {
-			_ = cmd.RegisterFlagCompletionFunc(n, cobra.NoFileCompletions)
-		}
-	}
-}
-
 // profileOptions holds the flag values of statemix profile.
 type profileOptions struct {
 	fitOptions
@@ -99,7 +57,7 @@ steps), with the 16-84 % width; --sputter-rate (nm/min) gives them in nm.`,
 			return runProfile(app, opts)
 		},
 	}
-	registerSeriesFitFlags(app, cmd, &opts.fitOptions, "covariance")
+	registerModelFlags(app, cmd, &opts.fitOptions, modelFlags{Uncertainty: "covariance", Like: "the first spectrum", Overlap: "spectra", PerSpectrum: true})
 	f := cmd.Flags()
 	f.Float64Var(&opts.SputterRate, "sputter-rate", 0, "sputter rate in `NM_PER_MIN` to give depths in nm")
 	f.StringVar(&opts.CSV, "csv", "", "write the fractions per step to `FILE.csv`")
