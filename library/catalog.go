@@ -301,7 +301,7 @@ func parseCatalog(b []byte) (*catalog, error) {
 	if err1 != nil || err2 != nil || rev < 0 || count < 0 {
 		return nil, fmt.Errorf("header %q: bad revision or count", head)
 	}
-	rows := make([]catRow, 0, count)
+	rows := make([]catRow, 0, min(count, strings.Count(rest, "\n"))) // count may lie
 	line := 1
 	for len(rest) > 0 {
 		line++

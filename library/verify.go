@@ -276,6 +276,7 @@ func verifyDir(dir string, opts VerifyOptions, s *Store) (*Report, error) {
 		}
 	}
 	if merr == nil && maxRev > m.Revision {
+		behind := m.Revision // commit raises m.Revision
 		var changes []Change
 		for _, e := range entries {
 			if e.Revision > m.Revision {
@@ -292,7 +293,7 @@ func verifyDir(dir string, opts VerifyOptions, s *Store) (*Report, error) {
 			rep.Problems[catProblem].Repaired = repaired // the commit wrote a fresh catalogue
 			catProblem = -1
 		}
-		add(manifestName, ProblemRevision, fmt.Sprintf("revision %d is behind entries written at revision %d (an interrupted write); repair raises it", m.Revision, maxRev), repaired)
+		add(manifestName, ProblemRevision, fmt.Sprintf("revision %d is behind entries written at revision %d (an interrupted write); repair raises it", behind, maxRev), repaired)
 	}
 	if catProblem >= 0 && opts.Repair {
 		rep.Problems[catProblem].Repaired = s.writeManifestCatalog(m, scanned(m.Revision)) == nil
