@@ -53,11 +53,13 @@ steps), with the 16-84 % width; --sputter-rate (nm/min) gives them in nm.`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			opts.File = args[0]
+			opts.TakeOffSet = cmd.Flags().Changed("take-off")
 			opts.command = reproduceCommand(cmd, args)
 			return runProfile(app, opts)
 		},
 	}
 	registerModelFlags(app, cmd, &opts.fitOptions, modelFlags{Uncertainty: "covariance", Like: "the first spectrum", Overlap: "spectra", PerSpectrum: true})
+	registerQuantFlags(cmd, &opts.fitOptions)
 	f := cmd.Flags()
 	f.Float64Var(&opts.SputterRate, "sputter-rate", 0, "sputter rate in `NM_PER_MIN` to give depths in nm")
 	f.StringVar(&opts.CSV, "csv", "", "write the fractions per step to `FILE.csv`")
@@ -100,9 +102,16 @@ func runProfile(app *App, opts *profileOptions) error {
 		return fitError(err)
 	}
 	res.Warnings = append(warnings, res.Warnings...)
-	doc := buildProfileDocument(opts, res)
+	pq, err := quantifySteps(&opts.fitOptions, steps, res)
+	if err != nil {
+		return err
+	}
+	if pq != nil {
+		res.Warnings = append(res.Warnings, pq.Warnings...)
+	}
+	doc := buildProfileDocument(opts, res, pq)
 	if opts.CSV != "" {
-		if err := writeFileAtomically(opts.CSV, func(w io.Writer) error { return writeProfileCSV(w, res) }); err != nil {
+		if err := writeFileAtomically(opts.CSV, func(w io.Writer) error { return writeProfileCSV(w, res, pq) }); err != nil {
 			return fmt.Errorf("--csv %s: %w", opts.CSV, err)
 		}
 	}
@@ -112,7 +121,7 @@ func runProfile(app *App, opts *profileOptions) error {
 		}
 	}
 	if opts.Report != "" {
-		if err := writeFileAtomically(opts.Report, func(w io.Writer) error { return profilePage(app, opts, res).Write(w) }); err != nil {
+		if err := writeFileAtomically(opts.Report, func(w io.Writer) error { return profilePage(app, opts, res, pq).Write(w) }); err != nil {
 			return fmt.Errorf("--report %s: %w", opts.Report, err)
 		}
 	}
@@ -121,7 +130,7 @@ func runProfile(app *App, opts *profileOptions) error {
 		enc.SetIndent("", "  ")
 		return enc.Encode(doc)
 	}
-	return writeProfileHuman(app, opts, res)
+	return writeProfileHuman(app, opts, res, pq)
 }
 
 // profileDocument is the statemix.profile/v1 JSON document.
@@ -136,6 +145,8 @@ type profileDocument struct {
 	RateNM   *float64     `json:"sputter_rate_nm_per_min"`
 	Library  fitLibrary   `json:"library"`
 	Warnings []string     `json:"warnings"`
+	// Assumptions of --atomic and --overlayer, once for all steps.
+	Assumptions []string `json:"assumptions,omitempty"`
 }
 
 type profileInput struct {
@@ -149,6 +160,9 @@ type profileStep struct {
 	Components   []fit.Component `json:"components"`
 	Quality      fit.Quality     `json:"quality"`
 	Source       string          `json:"source"`
+	// Added with --atomic and --overlayer.
+	Atomic    []atomicFraction `json:"atomic,omitempty"`
+	Overlayer *stepOverlayer   `json:"overlayer,omitempty"`
 }
 
 type profileInterface struct {
@@ -168,7 +182,7 @@ func finite(v float64) *float64 {
 	return &v
 }
 
-func buildProfileDocument(opts *profileOptions, res *series.ProfileResult) *profileDocument {
+func buildProfileDocument(opts *profileOptions, res *series.ProfileResult, pq *profileQuant) *profileDocument {
 	r0 := res.Steps[0].Result
 	o := r0.Options
 	d := &profileDocument{
@@ -189,9 +203,19 @@ func buildProfileDocument(opts *profileOptions, res *series.ProfileResult) *prof
 	if r0.Uncertainty == fit.Covariance {
 		d.Settings.Samples = 0
 	}
-	for _, s := range res.Steps {
-		d.Steps = append(d.Steps, profileStep{Index: s.Index, SputterTimeS: s.SputterTimeS, DepthNM: finite(s.DepthNM),
-			Components: s.Result.Components, Quality: s.Result.Quality, Source: s.Source})
+	for i, s := range res.Steps {
+		st := profileStep{Index: s.Index, SputterTimeS: s.SputterTimeS, DepthNM: finite(s.DepthNM),
+			Components: s.Result.Components, Quality: s.Result.Quality, Source: s.Source}
+		if pq != nil {
+			st.Atomic = pq.Atomic[i]
+			if pq.Overlayer != nil {
+				st.Overlayer = pq.Overlayer[i]
+			}
+		}
+		d.Steps = append(d.Steps, st)
+	}
+	if pq != nil {
+		d.Assumptions = pq.q.assumptions()
 	}
 	for _, x := range res.Interfaces {
 		d.Interfaces = append(d.Interfaces, profileInterface{State: x.State, PositionS: x.PositionS,
@@ -217,8 +241,10 @@ func fmtNum(v float64, format string) string {
 }
 
 // profileTable is one row per step: time, depth, each state's fraction
-// with its SD, the common shift and the reduced chi-square.
-func profileTable(res *series.ProfileResult, depth bool) *render.Table {
+// with its SD, the common shift and the reduced chi-square, then with
+// --atomic each state's atomic fraction and with --overlayer the
+// thickness.
+func profileTable(res *series.ProfileResult, depth bool, pq *profileQuant) *render.Table {
 	t := &render.Table{Header: []string{"step", "time (s)"}}
 	if depth {
 		t.Header = append(t.Header, "depth (nm)")
@@ -227,10 +253,18 @@ func profileTable(res *series.ProfileResult, depth bool) *render.Table {
 		t.Header = append(t.Header, n+" (%)")
 	}
 	t.Header = append(t.Header, "shift (eV)", "chi2 red.")
+	if pq != nil && pq.q.atomic {
+		for _, n := range componentNames(res) {
+			t.Header = append(t.Header, n+" at. (%)")
+		}
+	}
+	if pq != nil && pq.q.overlayer {
+		t.Header = append(t.Header, "thickness (nm)")
+	}
 	for i := range t.Header {
 		t.Right = append(t.Right, i != 0)
 	}
-	for _, s := range res.Steps {
+	for i, s := range res.Steps {
 		row := []string{strconv.Itoa(s.Index), fmtNum(s.SputterTimeS, "%.4g")}
 		if depth {
 			row = append(row, fmtNum(s.DepthNM, "%.4g"))
@@ -243,9 +277,39 @@ func profileTable(res *series.ProfileResult, depth bool) *render.Table {
 			}
 		}
 		row = append(row, fmtNum(s.Result.Components[0].Shift, "%+.2f"), fmtNum(s.Result.Quality.Chi2Reduced, "%.3g"))
+		if pq != nil {
+			row = append(row, quantCells(pq, i, len(s.Result.Components))...)
+		}
 		t.Rows = append(t.Rows, row)
 	}
 	return t
+}
+
+// quantCells returns step i's atomic-fraction and thickness cells of
+// profileTable; "-" where the step has no number.
+func quantCells(pq *profileQuant, i, k int) []string {
+	var row []string
+	if pq.q.atomic {
+		for c := range k {
+			if at := pq.Atomic[i]; at != nil {
+				row = append(row, fmt.Sprintf("%.1f ± %.1f", 100*at[c].Fraction, 100*at[c].SD))
+			} else {
+				row = append(row, "-")
+			}
+		}
+	}
+	if pq.q.overlayer {
+		ov := pq.Overlayer[i]
+		switch {
+		case ov.ThicknessNM == nil:
+			row = append(row, "-")
+		case ov.SDNM == nil:
+			row = append(row, fmt.Sprintf("%.3g", *ov.ThicknessNM))
+		default:
+			row = append(row, fmt.Sprintf("%.3g ± %.2g", *ov.ThicknessNM, *ov.SDNM))
+		}
+	}
+	return row
 }
 
 func interfaceTable(res *series.ProfileResult, depth bool) *render.Table {
@@ -268,7 +332,7 @@ func interfaceTable(res *series.ProfileResult, depth bool) *render.Table {
 	return t
 }
 
-func writeProfileHuman(app *App, opts *profileOptions, res *series.ProfileResult) error {
+func writeProfileHuman(app *App, opts *profileOptions, res *series.ProfileResult, pq *profileQuant) error {
 	w := app.Out
 	depth := opts.SputterRate > 0
 	r0 := res.Steps[0].Result
@@ -276,10 +340,16 @@ func writeProfileHuman(app *App, opts *profileOptions, res *series.ProfileResult
 		fmt.Fprintf(w, "%s: %d steps, %d references, window %.5g-%.5g eV, %s fit, uncertainty by %s\n\n",
 			opts.File, len(res.Steps), len(r0.Components), r0.Window[0], r0.Window[1], r0.Mode, r0.Uncertainty)
 	}
-	if err := profileTable(res, depth).WriteText(w); err != nil {
+	if err := profileTable(res, depth, pq).WriteText(w); err != nil {
 		return err
 	}
 	fmt.Fprintln(w)
+	if pq != nil {
+		for _, a := range pq.q.assumptions() {
+			fmt.Fprintf(w, "%s\n", a)
+		}
+		fmt.Fprintln(w)
+	}
 	if len(res.Interfaces) == 0 {
 		fmt.Fprintln(w, "no interfaces: no state's fraction passes from below 40 % to above 60 % or back")
 	} else {
@@ -296,8 +366,10 @@ func writeProfileHuman(app *App, opts *profileOptions, res *series.ProfileResult
 
 // writeProfileCSV writes one row per step: index, time, depth, then per
 // component fraction, SD and the 95 % interval, then shift and reduced
-// chi-square.
-func writeProfileCSV(w io.Writer, res *series.ProfileResult) error {
+// chi-square; with --atomic then per component the atomic fraction and its
+// SD, with --overlayer the thickness and its SD in nm (empty where the
+// step has none).
+func writeProfileCSV(w io.Writer, res *series.ProfileResult, pq *profileQuant) error {
 	cw := csv.NewWriter(w)
 	head := []string{"index", "sputter_time_s", "depth_nm"}
 	for _, c := range res.Steps[0].Result.Components {
@@ -308,6 +380,18 @@ func writeProfileCSV(w io.Writer, res *series.ProfileResult) error {
 		head = append(head, n+"_fraction", n+"_fraction_sd", n+"_ci95_lo", n+"_ci95_hi")
 	}
 	head = append(head, "shift_ev", "chi2_reduced")
+	if pq != nil && pq.q.atomic {
+		for _, c := range res.Steps[0].Result.Components {
+			n := c.State
+			if n == "" {
+				n = c.Name
+			}
+			head = append(head, n+"_atomic_fraction", n+"_atomic_fraction_sd")
+		}
+	}
+	if pq != nil && pq.q.overlayer {
+		head = append(head, "thickness_nm", "thickness_sd_nm")
+	}
 	if err := cw.Write(head); err != nil {
 		return err
 	}
@@ -317,12 +401,30 @@ func writeProfileCSV(w io.Writer, res *series.ProfileResult) error {
 		}
 		return strconv.FormatFloat(v, 'g', -1, 64)
 	}
-	for _, s := range res.Steps {
+	gp := func(v *float64) string {
+		if v == nil {
+			return ""
+		}
+		return g(*v)
+	}
+	for i, s := range res.Steps {
 		row := []string{strconv.Itoa(s.Index), g(s.SputterTimeS), g(s.DepthNM)}
 		for _, c := range s.Result.Components {
 			row = append(row, g(c.Fraction), g(c.FractionSD), g(c.FractionCI95[0]), g(c.FractionCI95[1]))
 		}
 		row = append(row, g(s.Result.Components[0].Shift), g(s.Result.Quality.Chi2Reduced))
+		if pq != nil && pq.q.atomic {
+			for c := range s.Result.Components {
+				if at := pq.Atomic[i]; at != nil {
+					row = append(row, g(at[c].Fraction), g(at[c].SD))
+				} else {
+					row = append(row, "", "")
+				}
+			}
+		}
+		if pq != nil && pq.q.overlayer {
+			row = append(row, gp(pq.Overlayer[i].ThicknessNM), gp(pq.Overlayer[i].SDNM))
+		}
 		if err := cw.Write(row); err != nil {
 			return err
 		}
@@ -388,7 +490,7 @@ func profileFigure(res *series.ProfileResult, depth bool, title string) *render.
 	return &render.Figure{Panels: []render.Panel{{Plot: p}}}
 }
 
-func profilePage(app *App, opts *profileOptions, res *series.ProfileResult) *render.Page {
+func profilePage(app *App, opts *profileOptions, res *series.ProfileResult, pq *profileQuant) *render.Page {
 	depth := opts.SputterRate > 0
 	r0 := res.Steps[0].Result
 	settings := [][2]string{
@@ -414,9 +516,16 @@ func profilePage(app *App, opts *profileOptions, res *series.ProfileResult) *ren
 	pg.Sections = append(pg.Sections,
 		render.Section{Heading: "Fractions", Blocks: []render.Block{render.FigureBlock(profileFigure(res, depth, ""), "fraction of each state with ± 1 SD; dotted lines at the interfaces")}},
 		render.Section{Heading: "Interfaces", Blocks: []render.Block{render.TableBlock(interfaceTable(res, depth))}},
-		render.Section{Heading: "Steps", Blocks: []render.Block{render.TableBlock(profileTable(res, depth))}},
-		render.Section{Heading: "Settings", Blocks: []render.Block{render.KeyValues(settings)}},
+		render.Section{Heading: "Steps", Blocks: []render.Block{render.TableBlock(profileTable(res, depth, pq))}},
 	)
+	if pq != nil {
+		var blocks []render.Block
+		for _, a := range pq.q.assumptions() {
+			blocks = append(blocks, render.Paragraph(a))
+		}
+		pg.Sections = append(pg.Sections, render.Section{Heading: "Quantification", Blocks: blocks})
+	}
+	pg.Sections = append(pg.Sections, render.Section{Heading: "Settings", Blocks: []render.Block{render.KeyValues(settings)}})
 	if len(res.Warnings) > 0 {
 		pg.Sections = append(pg.Sections, render.Section{Heading: "Warnings", Blocks: []render.Block{render.Warnings(res.Warnings)}})
 	}

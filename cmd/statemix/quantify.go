@@ -17,6 +17,7 @@ import (
 	"statemix/lineshape"
 	"statemix/lineshape/fit"
 	"statemix/lineshape/quant"
+	"statemix/lineshape/series"
 )
 
 // registerQuantFlags registers --atomic, --overlayer and --take-off on
@@ -319,4 +320,87 @@ func overlayerSection(ov *overlayerResult) render.Section {
 		}),
 		render.Warnings(ov.Warnings),
 	}}
+}
+
+// stepOverlayer is a profile step's --overlayer result: thickness_nm is
+// null when the model gives no thickness for the step (no substrate
+// signal), and warnings say why.
+type stepOverlayer struct {
+	Overlayer   string   `json:"overlayer_state"`
+	Substrate   string   `json:"substrate_state"`
+	ThicknessNM *float64 `json:"thickness_nm"`
+	SDNM        *float64 `json:"thickness_sd_nm"`
+	Ratio       *float64 `json:"ratio"`
+	TakeOffDeg  float64  `json:"take_off_deg"`
+	Method      string   `json:"method"`
+	Warnings    []string `json:"warnings,omitempty"`
+}
+
+// profileQuant holds the --atomic and --overlayer results of every step
+// of a profile, in the order of the steps.
+type profileQuant struct {
+	q         *quantifier
+	Atomic    [][]atomicFraction // nil for a step without fractions
+	Overlayer []*stepOverlayer   // nil without --overlayer
+	// Warnings are the steps' quantification warnings, prefixed by the
+	// step.
+	Warnings []string
+}
+
+// quantifySteps converts each step's coefficients as statemix fit does
+// one spectrum's, with the take-off angle of each step's spectrum unless
+// --take-off is given. A step the model gives no thickness or fractions
+// for gets a warning instead of a number. It returns nil when neither
+// --atomic nor --overlayer is given.
+func quantifySteps(opts *fitOptions, steps []series.Step, res *series.ProfileResult) (*profileQuant, error) {
+	r0 := res.Steps[0].Result
+	q, err := newQuantifier(opts, r0.Components, r0.Window)
+	if err != nil || q == nil {
+		return nil, err
+	}
+	spec := map[int]*lineshape.Spectrum{}
+	for _, s := range steps {
+		spec[s.Index] = s.Spectrum
+	}
+	pq := &profileQuant{q: q, Atomic: make([][]atomicFraction, len(res.Steps))}
+	if q.overlayer {
+		pq.Overlayer = make([]*stepOverlayer, len(res.Steps))
+	}
+	warn := func(s series.StepResult, w string) {
+		pq.Warnings = append(pq.Warnings, fmt.Sprintf("step %d (%s): %s", s.Index, s.Source, w))
+	}
+	for i, s := range res.Steps {
+		if q.atomic {
+			at, err := q.atomicFractions(s.Result)
+			if err != nil {
+				warn(s, err.Error())
+			} else {
+				pq.Atomic[i] = at
+			}
+		}
+		if !q.overlayer {
+			continue
+		}
+		theta := q.takeOffFor(spec[s.Index])
+		t, err := q.thickness(s.Result, theta)
+		var oe *quant.OverlayerError
+		switch {
+		case errors.As(err, &oe):
+			if theta == 0 {
+				theta = 90
+			}
+			pq.Overlayer[i] = &stepOverlayer{Overlayer: q.oxState, Substrate: q.subState, TakeOffDeg: theta,
+				Method: quant.StrohmeierMethod, Warnings: []string{err.Error()}}
+			warn(s, err.Error())
+			continue
+		case err != nil:
+			return nil, fmt.Errorf("step %d (%s): --overlayer: %w", s.Index, s.Source, err)
+		}
+		pq.Overlayer[i] = &stepOverlayer{Overlayer: q.oxState, Substrate: q.subState, ThicknessNM: finite(t.Thickness),
+			SDNM: finite(t.SD), Ratio: finite(t.Ratio), TakeOffDeg: t.TakeOff, Method: t.Method, Warnings: t.Warnings}
+		for _, w := range t.Warnings {
+			warn(s, w)
+		}
+	}
+	return pq, nil
 }
