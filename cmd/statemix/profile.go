@@ -44,12 +44,19 @@ file, from 1). Sputter times must increase. Every step is fitted exactly as
 statemix fit fits one spectrum, with the same flags; uncertainties come from
 the covariance by default (--uncertainty bootstrap is available). For each
 state, an interface is where its fraction crosses 50 % (interpolated between
-steps), with the 16-84 % width; --sputter-rate (nm/min) gives them in nm.`,
+steps), with the 16-84 % width; --sputter-rate (nm/min) gives them in nm.
+--atomic and --overlayer convert every step's coefficients as statemix fit
+does one spectrum's (atomic fractions; the overlayer thickness at --take-off,
+else each file's take-off angle, else 90 degrees) and print the assumptions
+once; a step with no substrate signal gets a warning instead of a thickness.`,
 		Example: `  # A depth profile in one file, two library references, depths in nm
   statemix profile depth.vms --refs "Ti foil","TiO2 film" --sputter-rate 2.5
 
   # A folder of spectra with manifest.csv, CSV and figure out
-  statemix profile run42/ --ref-file metal.csv:metal --ref-file oxide.csv:oxide --csv run42.csv --plot run42.svg`,
+  statemix profile run42/ --ref-file metal.csv:metal --ref-file oxide.csv:oxide --csv run42.csv --plot run42.svg
+
+  # Oxide thickness and atomic fractions at every step
+  statemix profile depth.vms --element Al --atomic --overlayer oxide:metal --take-off 42`,
 		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			opts.File = args[0]
