@@ -1,6 +1,7 @@
 package quant
 
 import (
+	"errors"
 	"fmt"
 
 	"gonum.org/v1/gonum/mat"
@@ -131,20 +132,11 @@ func sampleCov(rows [][]float64, a, b int) (va, vb, cab float64) {
 // SensitivityRatio 1 because the standards' signals already carry N L. It
 // returns an error if a density or an IMFP cannot be found.
 func StandardsOverlayer(element string, overlayer, substrate Material, energyEV, takeOffDeg float64) (Overlayer, error) {
-	no, err := AtomicDensity(overlayer, element)
-	if err != nil {
-		return Overlayer{}, err
-	}
-	ns, err := AtomicDensity(substrate, element)
-	if err != nil {
-		return Overlayer{}, err
-	}
-	lo, err := TPP2M(overlayer, energyEV)
-	if err != nil {
-		return Overlayer{}, err
-	}
-	ls, err := TPP2M(substrate, energyEV)
-	if err != nil {
+	no, err1 := AtomicDensity(overlayer, element)
+	ns, err2 := AtomicDensity(substrate, element)
+	lo, err3 := TPP2M(overlayer, energyEV)
+	ls, err4 := TPP2M(substrate, energyEV)
+	if err := errors.Join(err1, err2, err3, err4); err != nil {
 		return Overlayer{}, err
 	}
 	return Overlayer{NOverlayer: no, NSubstrate: ns, LambdaOverlayer: lo.IMFP, LambdaSubstrate: ls.IMFP,
