@@ -21,7 +21,7 @@ import (
 // id, kind, name, element, transition, state, spectrum mode, channel count,
 // energy range and main-feature energy. It is one tab-separated text file,
 //
-//	statemix-catalog<TAB>1<TAB>revision<TAB>count
+//	statemix-catalog<TAB>1<TAB>revision<TAB>count<TAB>refs-mtime<TAB>runs-mtime
 //	id<TAB>kind<TAB>status<TAB>name<TAB>element<TAB>transition<TAB>state<TAB>mode<TAB>n<TAB>lo<TAB>hi<TAB>feature
 //	...
 //
@@ -31,7 +31,11 @@ import (
 // control characters, a backslash, invalid UTF-8 or start with a double
 // quote, in which case they are Go-quoted (strconv.Quote), and numbers are
 // the shortest decimal form that parses back to the same float64 (feature is
-// empty when there is none). The manifest records the SHA-256 of the
+// empty when there is none). The mtimes are those of the refs/ and runs/
+// folders (Unix nanoseconds) when the catalogue was written: a later change
+// of either folder that did not come with a new catalogue (a write
+// interrupted after it renamed an entry file into place) tells writers to
+// read the files. The manifest records the SHA-256 of the
 // catalogue it belongs to (catalog_sha256); a catalogue whose digest or
 // revision does not match the manifest is stale and not used.
 const (
@@ -81,6 +85,7 @@ func rowOf(e *Entry) catRow {
 // catalog is a parsed catalogue. It is used by one goroutine.
 type catalog struct {
 	Revision int
+	DirTimes [2]int64         // mtimes of refs/ and runs/ (Unix ns) when written
 	rows     []catRow         // sorted by ID, each ID once
 	byName   map[string][]int // clean rows by name, built on first use
 }
@@ -134,7 +139,7 @@ func (c *catalog) with(rev int, drop []string, add []catRow) *catalog {
 		}
 		rows = append(rows, r)
 	}
-	return &catalog{Revision: rev, rows: append(rows, add...)}
+	return &catalog{Revision: rev, DirTimes: c.DirTimes, rows: append(rows, add...)}
 }
 
 // row returns the clean row of id.
@@ -236,7 +241,7 @@ func (c *catalog) candidates(e *catRow) []*catRow {
 func (c *catalog) encode() []byte {
 	var b bytes.Buffer
 	b.Grow(64 + 120*len(c.rows))
-	fmt.Fprintf(&b, "%s\t%d\t%d\t%d\n", catalogFormat, catalogVersion, c.Revision, len(c.rows))
+	fmt.Fprintf(&b, "%s\t%d\t%d\t%d\t%d\t%d\n", catalogFormat, catalogVersion, c.Revision, len(c.rows), c.DirTimes[0], c.DirTimes[1])
 	num := func(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
 	for i := range c.rows {
 		r := &c.rows[i]
@@ -290,16 +295,18 @@ func parseCatalog(b []byte) (*catalog, error) {
 		return nil, errors.New("no header line")
 	}
 	hf := strings.Split(head, "\t")
-	if len(hf) != 4 || hf[0] != catalogFormat {
-		return nil, fmt.Errorf("header %q, want %s<TAB>%d<TAB>revision<TAB>count", head, catalogFormat, catalogVersion)
+	if len(hf) != 6 || hf[0] != catalogFormat {
+		return nil, fmt.Errorf("header %q, want %s<TAB>%d<TAB>revision<TAB>count<TAB>refs-mtime<TAB>runs-mtime", head, catalogFormat, catalogVersion)
 	}
 	if hf[1] != strconv.Itoa(catalogVersion) {
 		return nil, fmt.Errorf("version %s, this program reads version %d", hf[1], catalogVersion)
 	}
 	rev, err1 := strconv.Atoi(hf[2])
 	count, err2 := strconv.Atoi(hf[3])
-	if err1 != nil || err2 != nil || rev < 0 || count < 0 {
-		return nil, fmt.Errorf("header %q: bad revision or count", head)
+	t0, err3 := strconv.ParseInt(hf[4], 10, 64)
+	t1, err4 := strconv.ParseInt(hf[5], 10, 64)
+	if err1 != nil || err2 != nil || err3 != nil || err4 != nil || rev < 0 || count < 0 {
+		return nil, fmt.Errorf("header %q: bad revision, count or mtime", head)
 	}
 	rows := make([]catRow, 0, min(count, strings.Count(rest, "\n"))) // count may lie
 	line := 1
@@ -366,7 +373,7 @@ func parseCatalog(b []byte) (*catalog, error) {
 			return nil, fmt.Errorf("rows not sorted by id, or id %s twice", rows[i].ID)
 		}
 	}
-	return &catalog{Revision: rev, rows: rows}, nil
+	return &catalog{Revision: rev, DirTimes: [2]int64{t0, t1}, rows: rows}, nil
 }
 
 // splitTabs splits l at tabs into f and returns the number of fields (more
@@ -438,6 +445,18 @@ func (s *Store) readerCatalog() *catalog {
 	return nil
 }
 
+// dirTimes returns the mtimes of refs/ and runs/ in Unix nanoseconds (0 for
+// a folder that cannot be read).
+func (s *Store) dirTimes() [2]int64 {
+	var out [2]int64
+	for i, sub := range []string{refsDir, runsDir} {
+		if fi, err := os.Stat(filepath.Join(s.dir, sub)); err == nil {
+			out[i] = fi.ModTime().UnixNano()
+		}
+	}
+	return out
+}
+
 // listsFiles reports whether c lists exactly the entry files (<id>.json in
 // refs/ and runs/) there are.
 func (s *Store) listsFiles(c *catalog) bool {
@@ -475,13 +494,14 @@ func (s *Store) listsFiles(c *catalog) bool {
 }
 
 // writerCatalog returns the catalogue for a writer holding the lock, whose
-// manifest is m: the stored one when it matches m and lists exactly the
-// entry files present, else one rebuilt by reading every entry file (an
-// older version wrote the library, a write was interrupted, or files were
-// added or removed by hand). The rebuilt one is written with the writer's
+// manifest is m: the stored one when it matches m, no entry file was
+// renamed into place or removed since it was written (folder mtimes) and
+// it lists exactly the entry files present, else one rebuilt by reading
+// every entry file (an older version wrote the library, a write was
+// interrupted, or files were added, removed or replaced by hand). The rebuilt one is written with the writer's
 // manifest, so the next writer finds it again.
 func (s *Store) writerCatalog(m *manifest) *catalog {
-	if c, err := readCatalog(s.dir, m); err == nil && s.listsFiles(c) {
+	if c, err := readCatalog(s.dir, m); err == nil && c.DirTimes == s.dirTimes() && s.listsFiles(c) {
 		return c
 	}
 	return s.scanCatalog(m.Revision)

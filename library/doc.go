@@ -41,14 +41,15 @@
 // and mode whose catalogued main feature is within the tolerance, after
 // which the check on the spectra themselves decides. Resolve reads one
 // entry file for a name or prefix. A writer trusts the catalogue only if
-// its digest and revision match the manifest and it lists exactly the
-// entry files present (one directory listing); otherwise (a library
-// written by an older version, a write interrupted after an entry file was
-// renamed into place, files added or removed by hand) it reads every entry
-// file, as a repair would, and writes a fresh catalogue with its manifest.
+// its digest and revision match the manifest, the refs/ and runs/ folders
+// have the mtimes it recorded, and it lists exactly the entry files present
+// (one directory listing); otherwise (a library written by an older
+// version, a write interrupted after an entry file was renamed into place,
+// files added, removed or replaced by hand) it reads every entry file, as
+// a repair would, and writes a fresh catalogue with its manifest.
 // Readers without a matching catalogue read every entry file's head. Labels
-// changed by hand in an entry file are not noticed by the catalogue until
-// VerifyDir, which compares it with the files and reports ProblemCatalog;
+// changed by hand in place (the folder's mtime unchanged) are not noticed
+// by the catalogue until VerifyDir, which compares it with the files and reports ProblemCatalog;
 // a repair rebuilds it (a rebuilt catalogue keeps the revision).
 //
 // # Safety

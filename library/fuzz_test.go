@@ -105,9 +105,9 @@ func FuzzParseCatalog(f *testing.F) {
 	}).encode()
 	f.Add(good)
 	f.Add(good[:len(good)/2])
-	f.Add([]byte(catalogFormat + "\t1\t0\t0\n"))
-	f.Add([]byte(catalogFormat + "\t1\t0\t1\n0123456789ab\tr\tok\t\"unterminated\t\t\t\t\t1\t0\t0\t\n"))
-	f.Add([]byte(catalogFormat + "\t1\t-1\t0\n"))
+	f.Add([]byte(catalogFormat + "\t1\t0\t0\t0\t0\n"))
+	f.Add([]byte(catalogFormat + "\t1\t0\t1\t5\t-5\n0123456789ab\tr\tok\t\"unterminated\t\t\t\t\t1\t0\t0\t\n"))
+	f.Add([]byte(catalogFormat + "\t1\t-1\t0\t0\t0\n"))
 	f.Add([]byte(""))
 	f.Fuzz(func(t *testing.T, b []byte) {
 		c, err := parseCatalog(b)
@@ -118,7 +118,7 @@ func FuzzParseCatalog(f *testing.F) {
 		if err != nil {
 			t.Fatalf("accepted catalogue does not parse after encoding: %v", err)
 		}
-		if c2.Revision != c.Revision || len(c2.rows) != len(c.rows) {
+		if c2.Revision != c.Revision || c2.DirTimes != c.DirTimes || len(c2.rows) != len(c.rows) {
 			t.Fatalf("round trip: revision %d, %d rows; want %d, %d", c2.Revision, len(c2.rows), c.Revision, len(c.rows))
 		}
 		for i := range c.rows {

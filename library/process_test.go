@@ -82,6 +82,16 @@ func helper(mode string) error {
 		}
 		_, _, err := s.Add(tiEntry("doomed", "oxide", 393, 99))
 		return fmt.Errorf("add survived the crash hook: %v", err)
+	case "crash-edit":
+		// Die after the edited entry is in place, before the manifest.
+		testHookAfterTemp = func(tmp string) error {
+			if strings.Contains(tmp, manifestName) {
+				os.Exit(7)
+			}
+			return nil
+		}
+		_, _, err := s.Edit("survivor", map[string]string{"name": "renamed"})
+		return fmt.Errorf("edit survived the crash hook: %v", err)
 	}
 	return fmt.Errorf("unknown helper mode %q", mode)
 }

@@ -240,6 +240,7 @@ func (s *Store) writeManifest(m *manifest) error {
 // is an error.
 func (s *Store) writeManifestCatalog(m *manifest, c *catalog) error {
 	c.Revision = m.Revision
+	c.DirTimes = s.dirTimes() // the caller's changes to refs/ and runs/ are done
 	cb := catalogBytes(m, c)
 	if err := s.writeManifest(m); err != nil {
 		return err
