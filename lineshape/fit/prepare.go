@@ -52,10 +52,11 @@ type Model struct {
 	basis        [][]float64 // Legendre background columns
 	basisGram    []float64   // basis_a . basis_b, q x q
 	curves       []*lineshape.Curve
-	bound        float64       // |shift| bound, 0 for ShiftNone
-	shifts       []float64     // scan grid of shifts, eV
-	tables       [][][]float64 // [ref][shift][channel]
-	refScale     []float64     // normalisation scale of each reference (1 if none)
+	bound        float64     // |shift| bound, 0 for ShiftNone
+	shifts       []float64   // scan grid of shifts, eV
+	zero         [][]float64 // [ref][channel]: references at zero shift
+	search       searchSpace // the shift search's smoothed problem
+	refScale     []float64   // normalisation scale of each reference (1 if none)
 	warnings     []string
 	unknownLabel string
 }
@@ -321,23 +322,86 @@ func Prepare(unknown *lineshape.Spectrum, refs []Reference, opts Options) (*Mode
 		}
 		m.shifts[half] = 0
 	}
-	m.tables = make([][][]float64, len(conv))
+	m.zero = make([][]float64, len(conv))
 	for i, c := range m.curves {
-		m.tables[i] = make([][]float64, len(m.shifts))
-		flat := make([]float64, len(m.shifts)*n)
-		for j, d := range m.shifts {
-			t := flat[j*n : (j+1)*n : (j+1)*n]
-			c.SampleShifted(t, m.start, m.step, d)
-			m.tables[i][j] = t
-		}
-		if allZero(m.tables[i][len(m.shifts)/2]) {
+		m.zero[i] = make([]float64, n)
+		c.SampleShifted(m.zero[i], m.start, m.step, 0)
+		if allZero(m.zero[i]) {
 			return nil, inputErr(refs[i].Label(), "reference is zero across the fit window %.5g-%.5g eV", m.window[0], m.window[1])
 		}
+	}
+	if m.bound > 0 {
+		m.prepareSearch(conv)
 	}
 	if err := m.checkCollinear(); err != nil {
 		return nil, err
 	}
 	return m, nil
+}
+
+// prepareSearch sets up the smoothed problem of the shift search: the
+// kernel SD is kernelWidth times the coarsest node spacing of the unknown
+// and the converted references; the window loses the kernelCut SDs at each
+// end that the smoothing of the unknown needs. If less than half the
+// window would remain, the search uses the interpolated references and
+// the unsmoothed unknown, with a warning.
+func (m *Model) prepareSearch(conv []*lineshape.Spectrum) {
+	h := m.step
+	for _, s := range conv {
+		h = math.Max(h, maxSpacing(s))
+	}
+	sp := &m.search
+	sp.sigma = kernelWidth * h
+	sp.r = int(math.Floor(kernelCut*sp.sigma/m.step + 1e-9))
+	sp.n = m.n - 2*sp.r
+	if sp.n < max(minChannels/2, m.n/2) {
+		m.warnings = append(m.warnings, fmt.Sprintf("the fit window is too short for the smoothing kernel of the shift search (%.3g eV SD): reference noise may pull the shift towards whole channels", sp.sigma))
+		sp.sigma, sp.r, sp.n = 0, 0, m.n
+	}
+	if sp.sigma > 0 {
+		sp.taps = make([]float64, 2*sp.r+1)
+		sum := 0.0
+		for t := range sp.taps {
+			x := float64(t-sp.r) * m.step
+			sp.taps[t] = math.Exp(-x * x / (2 * sp.sigma * sp.sigma))
+			sum += sp.taps[t]
+		}
+		for t := range sp.taps {
+			sp.taps[t] /= sum
+		}
+	}
+	sp.samplers = make([]*kernelSampler, len(conv))
+	for i, s := range conv {
+		sp.samplers[i] = newKernelSampler(s, sp.sigma, m.curves[i])
+	}
+	sp.basis = make([][]float64, len(m.basis))
+	for a, b := range m.basis {
+		sp.basis[a] = b[sp.r : sp.r+sp.n : sp.r+sp.n]
+	}
+	q := len(sp.basis)
+	sp.basisGram = make([]float64, q*q)
+	for a := 0; a < q; a++ {
+		for b := 0; b < q; b++ {
+			sp.basisGram[a*q+b] = dot(sp.basis[a], sp.basis[b])
+		}
+	}
+	sp.tables = make([][][]float64, len(conv))
+	for i := range conv {
+		sp.tables[i] = make([][]float64, len(m.shifts))
+		flat := make([]float64, len(m.shifts)*sp.n)
+		for j, d := range m.shifts {
+			t := flat[j*sp.n : (j+1)*sp.n : (j+1)*sp.n]
+			m.searchRef(t, i, d)
+			sp.tables[i][j] = t
+		}
+	}
+}
+
+// searchRef fills dst (length of the search space) with reference i
+// shifted by d eV as the shift search sees it.
+func (m *Model) searchRef(dst []float64, i int, d float64) {
+	sp := &m.search
+	m.search.samplers[i].sample(dst, m.start+float64(sp.r)*m.step, m.step, d)
 }
 
 // reconcileModulation returns the modulation the fit works at.
@@ -408,9 +472,8 @@ func (m *Model) reconcileModulation(u *lineshape.Spectrum, refs []Reference) (fl
 func (m *Model) checkCollinear() error {
 	k := len(m.refs)
 	cols := make([][]float64, 0, k+len(m.basis))
-	mid := len(m.shifts) / 2
 	for i := 0; i < k; i++ {
-		cols = append(cols, m.tables[i][mid])
+		cols = append(cols, m.zero[i])
 	}
 	cols = append(cols, m.basis...)
 	cond, a, b, corr := condition(cols)

@@ -16,6 +16,13 @@ type worker struct {
 	y    []float64
 	yy   float64
 	by   []float64
+
+	// The same for the shift search's smoothed problem (searchSpace).
+	scols [][]float64
+	sown  [][]float64
+	sy    []float64
+	syy   float64
+	sby   []float64
 }
 
 func (m *Model) newWorker() *worker {
@@ -25,6 +32,14 @@ func (m *Model) newWorker() *worker {
 		w.own[i] = make([]float64, m.n)
 	}
 	copy(w.cols[k:], m.basis)
+	if m.bound > 0 {
+		ns := m.search.n
+		w.scols, w.sown, w.sy, w.sby = make([][]float64, k+q), make([][]float64, k), make([]float64, ns), make([]float64, q)
+		for i := range w.sown {
+			w.sown[i] = make([]float64, ns)
+		}
+		copy(w.scols[k:], m.search.basis)
+	}
 	return w
 }
 
@@ -42,11 +57,23 @@ func (w *worker) setData(y []float64) {
 	for a, b := range w.m.basis {
 		w.by[a] = dot(b, y)
 	}
+	if w.m.bound > 0 {
+		w.m.search.data(w.sy, y)
+		w.syy = dot(w.sy, w.sy)
+		for a, b := range w.m.search.basis {
+			w.sby[a] = dot(b, w.sy)
+		}
+	}
 }
 
 // solveCols solves the linear problem for the current columns.
 func (w *worker) solveCols() (float64, error) {
 	return w.lin.solve(w.cols, w.y, w.yy, w.m.basisGram, w.by)
+}
+
+// solveSearch solves the search's linear problem for its current columns.
+func (w *worker) solveSearch() (float64, error) {
+	return w.lin.solve(w.scols, w.sy, w.syy, w.m.search.basisGram, w.sby)
 }
 
 // sampleOwn samples reference i shifted by d into its own buffer and uses it.
@@ -55,13 +82,19 @@ func (w *worker) sampleOwn(i int, d float64) {
 	w.cols[i] = w.own[i]
 }
 
-// evalCommon returns the residual sum of squares with every reference
-// shifted by d (sampled off-grid).
+// searchOwn is sampleOwn for the search's problem.
+func (w *worker) searchOwn(i int, d float64) {
+	w.m.searchRef(w.sown[i], i, d)
+	w.scols[i] = w.sown[i]
+}
+
+// evalCommon returns the search's residual sum of squares with every
+// reference shifted by d (sampled off-grid).
 func (w *worker) evalCommon(d float64) float64 {
-	for i := range w.own {
-		w.sampleOwn(i, d)
+	for i := range w.sown {
+		w.searchOwn(i, d)
 	}
-	rss, err := w.solveCols()
+	rss, err := w.solveSearch()
 	if err != nil {
 		return math.Inf(1)
 	}
@@ -69,73 +102,75 @@ func (w *worker) evalCommon(d float64) float64 {
 }
 
 // search finds the shifts and coefficients for the data set by setData.
-// ShiftNone: one linear solve. ShiftCommon: every shift of the scan grid
-// (at most 0.05 eV apart, references sampled with sub-channel
-// interpolation) is tried, then the best is refined by Brent's method within
-// one grid step on either side. ShiftEach: from the best common shift,
-// coordinate sweeps: each reference's shift in turn is scanned over the
-// whole grid with the others fixed, then refined by Brent's method, until
-// no shift moves by more than 1e-3 eV (at most 20 sweeps).
+// ShiftNone: one linear solve. Otherwise the shifts are searched in the
+// smoothed problem of searchSpace and the coefficients then solved at them
+// with the references as recorded. ShiftCommon: every shift of the scan
+// grid (at most 0.05 eV apart) is tried, then the best is refined by
+// Brent's method within one grid step on either side. ShiftEach: from the
+// best common shift, coordinate sweeps: each reference's shift in turn is
+// scanned with the others fixed, then refined by Brent's method, until no
+// shift moves by more than 1e-3 eV (at most 20 sweeps).
 func (w *worker) search() (solution, error) {
 	m := w.m
 	k := len(m.refs)
 	nsh := len(m.shifts)
-	best, bestJ := math.Inf(1), -1
-	var firstErr error
-	for j := 0; j < nsh; j++ {
-		for i := 0; i < k; i++ {
-			w.cols[i] = m.tables[i][j]
-		}
-		rss, err := w.solveCols()
-		if err != nil {
-			if firstErr == nil {
-				firstErr = err
+	shifts := make([]float64, k)
+	if m.bound > 0 {
+		best, bestJ := math.Inf(1), -1
+		var firstErr error
+		for j := 0; j < nsh; j++ {
+			for i := 0; i < k; i++ {
+				w.scols[i] = m.search.tables[i][j]
 			}
-			continue
+			rss, err := w.solveSearch()
+			if err != nil {
+				if firstErr == nil {
+					firstErr = err
+				}
+				continue
+			}
+			if rss < best {
+				best, bestJ = rss, j
+			}
 		}
-		if rss < best {
-			best, bestJ = rss, j
+		if bestJ < 0 {
+			return solution{}, w.wrapErr(w.scols, firstErr)
 		}
-	}
-	if bestJ < 0 {
-		return solution{}, w.wrapErr(firstErr)
-	}
-	d := m.shifts[bestJ]
-	if nsh > 1 {
+		d := m.shifts[bestJ]
 		h := m.shifts[1] - m.shifts[0]
 		a, b := math.Max(d-h, -m.bound), math.Min(d+h, m.bound)
 		xd, fd := brentMin(w.evalCommon, a, b, 1e-4, 60)
 		if fd < best {
 			d, best = xd, fd
 		}
+		for i := range shifts {
+			shifts[i] = d
+		}
+		if m.opts.Shift == ShiftEach && k > 1 {
+			w.sweep(shifts, best)
+		}
 	}
-	shifts := make([]float64, k)
-	for i := range shifts {
-		shifts[i] = d
-	}
-	if m.opts.Shift == ShiftEach && nsh > 1 && k > 1 {
-		best = w.sweep(shifts, best)
-	}
-	// Final solve at the chosen shifts.
+	// Final solve at the chosen shifts, references as recorded.
 	for i := 0; i < k; i++ {
 		w.sampleOwn(i, shifts[i])
 	}
 	rss, err := w.solveCols()
 	if err != nil {
-		return solution{}, w.wrapErr(err)
+		return solution{}, w.wrapErr(w.cols, err)
 	}
 	x := append([]float64(nil), w.lin.x...)
 	return solution{x: x, shifts: shifts, rss: rss}, nil
 }
 
 // sweep refines per-reference shifts by coordinate sweeps from shifts
-// (overwritten) whose residual sum of squares is cur, and returns the new one.
+// (overwritten) whose search residual sum of squares is cur, and returns
+// the new one.
 func (w *worker) sweep(shifts []float64, cur float64) float64 {
 	m := w.m
 	k := len(m.refs)
 	h := m.shifts[1] - m.shifts[0]
 	for i := 0; i < k; i++ {
-		w.sampleOwn(i, shifts[i])
+		w.searchOwn(i, shifts[i])
 	}
 	for iter := 0; iter < 20; iter++ {
 		moved := 0.0
@@ -149,8 +184,8 @@ func (w *worker) sweep(shifts []float64, cur float64) float64 {
 				jlo, jhi = max(0, j0-4), min(len(m.shifts)-1, j0+4)
 			}
 			for j := jlo; j <= jhi; j++ {
-				w.cols[i] = m.tables[i][j]
-				rss, err := w.solveCols()
+				w.scols[i] = m.search.tables[i][j]
+				rss, err := w.solveSearch()
 				if err == nil && rss < best*(1-1e-12) {
 					best, bestJ = rss, j
 				}
@@ -160,8 +195,8 @@ func (w *worker) sweep(shifts []float64, cur float64) float64 {
 				centre = m.shifts[bestJ]
 			}
 			f := func(d float64) float64 {
-				w.sampleOwn(i, d)
-				rss, err := w.solveCols()
+				w.searchOwn(i, d)
+				rss, err := w.solveSearch()
 				if err != nil {
 					return math.Inf(1)
 				}
@@ -178,7 +213,7 @@ func (w *worker) sweep(shifts []float64, cur float64) float64 {
 			}
 			moved = math.Max(moved, math.Abs(nd-shifts[i]))
 			shifts[i] = nd
-			w.sampleOwn(i, nd)
+			w.searchOwn(i, nd)
 		}
 		if moved <= 1e-3 {
 			break
@@ -187,7 +222,7 @@ func (w *worker) sweep(shifts []float64, cur float64) float64 {
 	return cur
 }
 
-func (w *worker) wrapErr(err error) error {
+func (w *worker) wrapErr(cols [][]float64, err error) error {
 	m := w.m
 	name := func(i int) string {
 		if i < len(m.refs) {
@@ -200,9 +235,7 @@ func (w *worker) wrapErr(err error) error {
 		return &CollinearError{A: name(re.Columns[0]), B: name(re.Columns[1]), Condition: re.Cond}
 	}
 	if err == errSingular || err == nil || re != nil {
-		cols := make([][]float64, 0, len(w.cols))
-		cols = append(cols, w.cols...)
-		cond, a, b, corr := condition(cols)
+		cond, a, b, corr := condition(append([][]float64(nil), cols...))
 		return &CollinearError{A: name(a), B: name(b), Condition: cond, Correlation: corr}
 	}
 	return err

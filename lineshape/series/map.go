@@ -218,10 +218,13 @@ type plan struct {
 	mode     lineshape.Mode
 	shifts   []float64   // grid, eV
 	h        float64     // grid step, eV (0 for a single shift)
-	tables   [][]float64 // [ref*S+shift] sampled shifted reference, length n
+	tables   [][]float64 // [ref*S+shift] shifted reference as the shift search sees it, length sn
 	curves   []*lineshape.Curve
 	step     float64     // channel step, eV
 	basis    [][]float64 // background columns, length n
+	model    *fit.Model  // for the shift search's smoothing of the data
+	sr, sn   int         // first window channel and length of the search's problem
+	sbasis   [][]float64 // background columns on the search's channels
 	free     []bool      // k+q: background columns are free
 	bgram    []float64   // q*q: dot products of the background columns
 	ginv     [][]float64 // per shift: (A_s^T A_s)^-1 row-major, nil if not positive definite
@@ -263,7 +266,8 @@ func newPlan(cube Cube, refs []fit.Reference, opts MapOptions) (*plan, error) {
 		return nil, lineshape.Errorf(cube.Name(), 0, "the cube holds %v spectra but the references need a %v fit: convert the references (statemix convert --to %v) so that no pixel needs lock-in emulation", cube.Mode(), m.Mode(), cube.Mode())
 	}
 	ro := m.Options()
-	pl := &plan{k: len(refs), n: m.Points(), window: m.Window(), mode: m.Mode(), warnings: m.Warnings(), fullScan: opts.fullScan}
+	pl := &plan{k: len(refs), n: m.Points(), window: m.Window(), mode: m.Mode(), warnings: m.Warnings(), fullScan: opts.fullScan, model: m}
+	pl.sr, pl.sn = m.SearchChannels()
 	pl.i0 = int(math.Round((pl.window[0] - ax.Start) / ax.Step))
 	if pl.i0 < 0 || pl.i0+pl.n > c {
 		panic("series: fit window outside the cube")
@@ -289,7 +293,9 @@ func newPlan(cube Cube, refs []fit.Reference, opts MapOptions) (*plan, error) {
 	}
 	// References converted as fit.Prepare converts them; the modes agree
 	// with the cube, so only direct references of a derivative fit need
-	// lock-in emulation.
+	// lock-in emulation. The grid scan works in fit's smoothed search
+	// problem (fit.Model.SearchReference), the solve at the refined shift
+	// with these curves, as fit.Model.Fit does.
 	S := len(pl.shifts)
 	pl.tables = make([][]float64, pl.k*S)
 	for i, r := range refs {
@@ -310,15 +316,17 @@ func newPlan(cube Cube, refs []fit.Reference, opts MapOptions) (*plan, error) {
 				return nil, lineshape.Errorf(r.Label(), 0, "normalising: %v", err)
 			}
 		}
-		cv := s.Curve()
-		pl.curves = append(pl.curves, cv)
+		pl.curves = append(pl.curves, s.Curve())
 		for j, d := range pl.shifts {
-			t := make([]float64, pl.n)
-			cv.SampleShifted(t, pl.window[0], ax.Step, d)
+			t := make([]float64, pl.sn)
+			m.SearchReference(t, i, d)
 			pl.tables[i*S+j] = t
 		}
 	}
 	pl.basis = legendre(pl.n, ro.BackgroundDegree())
+	for _, b := range pl.basis {
+		pl.sbasis = append(pl.sbasis, b[pl.sr:pl.sr+pl.sn:pl.sr+pl.sn])
+	}
 	pl.q = len(pl.basis)
 	pl.bgram = make([]float64, pl.q*pl.q)
 	for a := range pl.q {
@@ -329,12 +337,12 @@ func newPlan(cube Cube, refs []fit.Reference, opts MapOptions) (*plan, error) {
 	ncol := pl.k + pl.q
 	as := make([]*mat.Dense, S)
 	for j := range pl.shifts {
-		a := mat.NewDense(pl.n, ncol, nil)
+		a := mat.NewDense(pl.sn, ncol, nil)
 		for i := range pl.k {
 			a.SetCol(i, pl.tables[i*S+j])
 		}
 		for b := range pl.q {
-			a.SetCol(pl.k+b, pl.basis[b])
+			a.SetCol(pl.k+b, pl.sbasis[b])
 		}
 		as[j] = a
 	}
@@ -414,7 +422,8 @@ type pixelWorker struct {
 	pl     *plan
 	bank   *nnls.Bank
 	atb    []float64 // k+q
-	bgAtb  []float64 // q
+	bgAtb  []float64 // q: search background columns . search data
+	sb     []float64 // sn: the pixel as the shift search sees it
 	refs   []float64 // k*S: A_k^T b of every reference at every shift
 	rss    []float64 // S: NNLS RSS, NaN where not solved or failed
 	lb     []float64 // S: unconstrained RSS, a lower bound on rss
@@ -440,7 +449,7 @@ func (pl *plan) newPixelWorker() *pixelWorker {
 		atb: make([]float64, p), bgAtb: make([]float64, pl.q),
 		refs: make([]float64, pl.k*S), rss: make([]float64, S),
 		lb: make([]float64, S), solved: make([]bool, S),
-		best: make([]float64, p), r: make([]float64, pl.n),
+		best: make([]float64, p), r: make([]float64, pl.n), sb: make([]float64, pl.sn),
 		cols: make([][]float64, p), gram: make([]float64, p*p), c: make([]float64, p),
 		small: mat.NewDense(p, p, nil),
 	}
@@ -484,7 +493,9 @@ func (w *pixelWorker) solveAt(b []float64, d float64) bool {
 		pl.curves[i].SampleShifted(w.cols[i], pl.window[0], pl.step, d)
 		w.atb[i] = dot(w.cols[i], b)
 	}
-	copy(w.atb[k:], w.bgAtb)
+	for j := range pl.q {
+		w.atb[k+j] = dot(pl.basis[j], b)
+	}
 	g := w.gram
 	for i := range p {
 		for j := 0; j <= i; j++ {
@@ -547,14 +558,22 @@ func (w *pixelWorker) solveAt(b []float64, d float64) bool {
 func (w *pixelWorker) fit(spec []float64, res *MapResult, p int) bool {
 	pl := w.pl
 	b := spec[pl.i0 : pl.i0+pl.n]
+	for _, v := range b {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			w.writeNaN(res, p)
+			return false
+		}
+	}
 	S := len(pl.shifts)
 	k, q := pl.k, pl.q
-	btb := dot(b, b)
+	sb := w.sb
+	pl.model.SearchData(sb, b)
+	btb := dot(sb, sb)
 	for j := range q {
-		w.bgAtb[j] = dot(pl.basis[j], b)
+		w.bgAtb[j] = dot(pl.sbasis[j], sb)
 	}
 	for i := range w.refs {
-		w.refs[i] = dot(pl.tables[i], b)
+		w.refs[i] = dot(pl.tables[i], sb)
 	}
 	// Branch and bound over the grid: the unconstrained least-squares RSS
 	// of a shift is a lower bound on its NNLS RSS, so shifts whose bound
@@ -624,17 +643,12 @@ func (w *pixelWorker) fit(spec []float64, res *MapResult, p int) bool {
 			shift += d * pl.h
 		}
 	}
-	// Coefficients at the refined shift; the grid solution stands if that
-	// solve fails or the shift was not refined.
-	cols := func(i int) []float64 { return pl.tables[i*S+bestK] }
-	if shift != pl.shifts[bestK] {
-		grid := append(w.r[:0], w.best...) // w.r is free until the residual
-		if w.solveAt(b, shift) {
-			cols = func(i int) []float64 { return w.cols[i] }
-		} else {
-			copy(w.best, grid)
-		}
+	// Coefficients at the refined shift with the references as recorded.
+	if !w.solveAt(b, shift) {
+		w.writeNaN(res, p)
+		return false
 	}
+	cols := func(i int) []float64 { return w.cols[i] }
 	// Residual, for the RSS and the noise.
 	r := w.r
 	copy(r, b)
