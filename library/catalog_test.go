@@ -34,6 +34,9 @@ func storedCatalog(t *testing.T, s *Store) *catalog {
 func checkCatalogCurrent(t *testing.T, s *Store) {
 	t.Helper()
 	c := storedCatalog(t, s)
+	if c.DirTimes != s.dirTimes() || !s.listsFiles(c) {
+		t.Errorf("a writer would not trust the catalogue: folder mtimes %v, recorded %v; lists the files: %v", s.dirTimes(), c.DirTimes, s.listsFiles(c))
+	}
 	want := s.scanCatalog(c.Revision)
 	if !reflect.DeepEqual(c.rows, want.rows) && !(len(c.rows) == 0 && len(want.rows) == 0) {
 		t.Errorf("catalogue at revision %d:\n%+v\nfiles call for\n%+v", c.Revision, c.rows, want.rows)

@@ -121,6 +121,7 @@ func verifyDir(dir string, opts VerifyOptions, s *Store) (*Report, error) {
 	// the lock has renamed or removed its own, so those that remain are
 	// leftovers of a crash.
 	var temps []string
+	removedTemp := false // a repair removed one: the folder mtimes the catalogue records change
 	for _, sub := range []string{".", refsDir, runsDir} {
 		des, err := os.ReadDir(filepath.Join(dir, sub))
 		if err != nil {
@@ -141,6 +142,7 @@ func verifyDir(dir string, opts VerifyOptions, s *Store) (*Report, error) {
 			if opts.Repair {
 				if err := os.Remove(p); err == nil {
 					repaired = true
+					removedTemp = true
 				}
 			}
 			add(rel(p), ProblemLeftover, "temporary file left by an interrupted write; repair removes it", repaired)
@@ -287,6 +289,7 @@ func verifyDir(dir string, opts VerifyOptions, s *Store) (*Report, error) {
 		if opts.Repair {
 			if err := s.commit(m, maxRev, s.now().UTC(), changes, scanned(maxRev)); err == nil {
 				repaired = true
+				removedTemp = false // the commit wrote the catalogue
 			}
 		}
 		if catProblem >= 0 {
@@ -295,8 +298,11 @@ func verifyDir(dir string, opts VerifyOptions, s *Store) (*Report, error) {
 		}
 		add(manifestName, ProblemRevision, fmt.Sprintf("revision %d is behind entries written at revision %d (an interrupted write); repair raises it", behind, maxRev), repaired)
 	}
-	if catProblem >= 0 && opts.Repair {
-		rep.Problems[catProblem].Repaired = s.writeManifestCatalog(m, scanned(m.Revision)) == nil
+	if opts.Repair && merr == nil && (catProblem >= 0 || removedTemp) {
+		ok := s.writeManifestCatalog(m, scanned(m.Revision)) == nil
+		if catProblem >= 0 {
+			rep.Problems[catProblem].Repaired = ok
+		}
 	}
 	if m != nil {
 		rep.Revision = m.Revision
