@@ -170,6 +170,19 @@
 // fractions, or t_0.95 times the SD its coefficient would have if it were
 // free, over the sum of coefficients. Intervals never reach below zero.
 //
+// The others are then not known exactly either: they may lose signal to
+// the components at zero. If a share b of the sum went to those, an
+// active fraction f would become f (1 - b). Covariance: with SD_B the SD
+// of the sum of the at-zero coefficients if they were all free (from the
+// same extended Jacobian, jointly), over the sum of coefficients, an
+// active fraction's SD is the delta-method SD and f SD_B in quadrature,
+// and the lower end of its interval is f - hypot(t_0.975 SD, f t_0.95
+// SD_B); the upper end is not moved. With one active component that is
+// fraction 1, interval [1 - t_0.95 SD_B, 1] and SD SD_B: the mirror of the
+// one-sided limit of the components at zero. Bootstrap: a sole active
+// component gets [5 % percentile, 1], the mirror of their 95 % percentile;
+// its SD is the sample SD as always.
+//
 // Calibration (see calib_test.go): over 200 (or, with -calib, 1000) noise
 // realisations of a two-state mixture with counting-like noise at a
 // peak-to-peak signal-to-noise ratio of 50, white or smoothed by a 5-point

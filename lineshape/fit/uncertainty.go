@@ -103,7 +103,51 @@ func (m *Model) covariance(w *worker, res *Result, sol solution) error {
 			c.ShiftSD = math.Sqrt(cov.At(j, j))
 		}
 	}
-	// Fractions by the delta method: df_i/dc_j = (delta_ij - f_i) / S.
+	// Components at zero: the SD of their coefficient if it were free,
+	// for a one-sided upper limit; and, jointly, the SD of the sum of all
+	// of them if they were free, which bounds how much of the signal the
+	// active components may lose to them.
+	var bound [][]float64
+	for i, c := range res.Components {
+		if !c.AtBound {
+			continue
+		}
+		col := make([]float64, n)
+		m.curves[i].SampleShifted(col, m.start, m.step, sol.shifts[i])
+		bound = append(bound, col)
+		ext := append([][]float64{col}, cols...)
+		cz, ok := invGram(ext, scale)
+		cc := &res.Components[i]
+		if !ok {
+			cc.FractionCI95 = [2]float64{0, 1}
+			continue
+		}
+		sd := math.Sqrt(cz.At(0, 0))
+		cc.CoefficientSD = sd
+		cc.FractionSD = sd / sum
+		cc.FractionCI95 = [2]float64{0, math.Min(1, t95*sd/sum)}
+	}
+	boundSD, boundOK := 0.0, true // SD of the at-bound fractions' sum
+	if nb := len(bound); nb > 0 {
+		cz, ok := invGram(append(bound, cols...), scale)
+		boundOK = ok
+		if ok {
+			v := 0.0
+			for a := 0; a < nb; a++ {
+				for b := 0; b < nb; b++ {
+					v += cz.At(a, b)
+				}
+			}
+			boundSD = math.Sqrt(math.Max(v, 0)) / sum
+		}
+	}
+	// Fractions by the delta method: df_i/dc_j = (delta_ij - f_i) / S,
+	// over the active components. Components at zero can only take signal
+	// from them: if theirs rose from 0 to a share b of the sum, f_i would
+	// become f_i (1 - b); so f_i's interval is widened downwards by
+	// f_i U_B, U_B = t_0.95 SD_B the one-sided upper limit of b, and its
+	// SD by f_i SD_B (in quadrature with the delta-method terms). With one
+	// active component this gives [1 - U_B, 1] and SD SD_B.
 	grad := make([]float64, len(active))
 	for a, i := range active {
 		fi := res.Components[i].Fraction
@@ -118,29 +162,16 @@ func (m *Model) covariance(w *worker, res *Result, sol solution) error {
 			}
 		}
 		sd := math.Sqrt(math.Max(v, 0))
+		lo, hi := fi-t975*sd, fi+t975*sd
+		if !boundOK {
+			lo = 0
+		} else if boundSD > 0 {
+			lo = fi - math.Hypot(t975*sd, fi*t95*boundSD)
+			sd = math.Hypot(sd, fi*boundSD)
+		}
 		c := &res.Components[i]
 		c.FractionSD = sd
-		c.FractionCI95 = [2]float64{math.Max(0, fi-t975*sd), math.Min(1, fi+t975*sd)}
-	}
-	// Components at zero: the SD of their coefficient if it were free,
-	// for a one-sided upper limit.
-	for i, c := range res.Components {
-		if !c.AtBound {
-			continue
-		}
-		col := make([]float64, n)
-		m.curves[i].SampleShifted(col, m.start, m.step, sol.shifts[i])
-		ext := append([][]float64{col}, cols...)
-		cz, ok := invGram(ext, scale)
-		cc := &res.Components[i]
-		if !ok {
-			cc.FractionCI95 = [2]float64{0, 1}
-			continue
-		}
-		sd := math.Sqrt(cz.At(0, 0))
-		cc.CoefficientSD = sd
-		cc.FractionSD = sd / sum
-		cc.FractionCI95 = [2]float64{0, math.Min(1, t95*sd/sum)}
+		c.FractionCI95 = [2]float64{math.Max(0, lo), math.Min(1, hi)}
 	}
 	return nil
 }
@@ -367,6 +398,12 @@ feed:
 		res.Warnings = append(res.Warnings, fmt.Sprintf("bootstrap: %d of %d refits failed; intervals rest on the others", smp.Failed, B))
 	}
 	col := make([]float64, good)
+	nactive := 0
+	for _, c := range res.Components {
+		if !c.AtBound {
+			nactive++
+		}
+	}
 	for i := range res.Components {
 		c := &res.Components[i]
 		get := func(rows [][]float64) []float64 {
@@ -382,9 +419,14 @@ feed:
 		fr := get(smp.Fractions)
 		c.FractionSD = sd(fr)
 		sort.Float64s(fr)
-		if c.AtBound {
+		switch {
+		case c.AtBound:
 			c.FractionCI95 = [2]float64{0, quantile(fr, 0.95)}
-		} else {
+		case nactive == 1 && len(res.Components) > 1:
+			// The others are at zero: this one has fraction 1 and the
+			// one-sided lower limit that mirrors their upper limits.
+			c.FractionCI95 = [2]float64{quantile(fr, 0.05), 1}
+		default:
 			c.FractionCI95 = [2]float64{quantile(fr, 0.025), quantile(fr, 0.975)}
 		}
 	}

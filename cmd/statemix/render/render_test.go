@@ -125,3 +125,35 @@ func TestFitReportHTML(t *testing.T) {
 		t.Error("report links external resources")
 	}
 }
+
+func TestFractionText(t *testing.T) {
+	cases := []struct {
+		c       fit.Component
+		percent bool
+		want    string
+	}{
+		{fit.Component{Fraction: 0.6234, FractionSD: 0.0123, FractionCI95: [2]float64{0.6, 0.65}}, false, "0.623 ± 0.012"},
+		{fit.Component{AtBound: true, FractionSD: 0.018, FractionCI95: [2]float64{0, 0.0297}}, true, "0 (< 3.0)"},
+		{fit.Component{Fraction: 1, FractionSD: 0.018, FractionCI95: [2]float64{0.9703, 1}}, true, "100.0 (> 97.0)"},
+		{fit.Component{Fraction: 1, FractionSD: 0.018, FractionCI95: [2]float64{0.9703, 1}}, false, "1.000 (> 0.970)"},
+		// A certain 1 (no other component) keeps the plain form.
+		{fit.Component{Fraction: 1, FractionCI95: [2]float64{1, 1}}, true, "100.0 ± 0.0"},
+	}
+	for _, tc := range cases {
+		if got := FractionText(tc.c, tc.percent); got != tc.want {
+			t.Errorf("FractionText(%+v, %v) = %q, want %q", tc.c, tc.percent, got, tc.want)
+		}
+	}
+	res := sampleResult(t)
+	res.Components[0] = fit.Component{State: "metal", Fraction: 1, FractionSD: 0.018, FractionCI95: [2]float64{0.9703, 1}}
+	res.Components[1] = fit.Component{State: "oxide", AtBound: true, FractionSD: 0.018, FractionCI95: [2]float64{0, 0.0297}}
+	var buf bytes.Buffer
+	if err := FitTable(res).WriteText(&buf); err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{"1.000 (> 0.970)", "> 0.970", "0 (at bound)", "< 0.030"} {
+		if !strings.Contains(buf.String(), want) {
+			t.Errorf("table lacks %q:\n%s", want, buf.String())
+		}
+	}
+}

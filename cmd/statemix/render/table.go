@@ -85,11 +85,14 @@ func FitTable(res *fit.Result) *Table {
 			}
 			ref += "[" + c.Ref + "]"
 		}
-		frac := fmt.Sprintf("%.3f ± %.3f", c.Fraction, c.FractionSD)
+		frac := FractionText(c, false)
 		ci := fmt.Sprintf("%.3f – %.3f", c.FractionCI95[0], c.FractionCI95[1])
-		if c.AtBound {
+		switch {
+		case c.AtBound:
 			frac = "0 (at bound)"
 			ci = fmt.Sprintf("< %.3f", c.FractionCI95[1])
+		case oneSidedLower(c):
+			ci = fmt.Sprintf("> %.3f", c.FractionCI95[0])
 		}
 		shift := fmt.Sprintf("%+.3f", c.Shift)
 		if c.ShiftSD > 0 {
@@ -105,6 +108,32 @@ func FitTable(res *fit.Result) *Table {
 		t.Rows = append(t.Rows, []string{state, ref, frac, ci, shift})
 	}
 	return t
+}
+
+// oneSidedLower reports whether c is the only component above zero: its
+// fraction is 1 and its interval the one-sided [lower limit, 1].
+func oneSidedLower(c fit.Component) bool {
+	return !c.AtBound && c.Fraction == 1 && c.FractionCI95[1] == 1 && c.FractionCI95[0] < 1
+}
+
+// FractionText returns a component's fraction as a table cell: "f ± sd";
+// "0 (< U)" for a component at its bound, U its one-sided 95 % upper
+// limit; and "f (> L)" for the only component above zero, whose fraction 1
+// has the one-sided lower limit L (package fit). With percent the values
+// are in per cent with one decimal ("100.0 (> 97.0)"), else fractions with
+// three.
+func FractionText(c fit.Component, percent bool) string {
+	scale, f := 1.0, "%.3f"
+	if percent {
+		scale, f = 100, "%.1f"
+	}
+	switch {
+	case c.AtBound:
+		return fmt.Sprintf("0 (< "+f+")", scale*c.FractionCI95[1])
+	case oneSidedLower(c):
+		return fmt.Sprintf(f+" (> "+f+")", scale*c.Fraction, scale*c.FractionCI95[0])
+	}
+	return fmt.Sprintf(f+" ± "+f, scale*c.Fraction, scale*c.FractionSD)
 }
 
 // QualityText returns the quality of a fit as one line.
