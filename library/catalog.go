@@ -498,13 +498,23 @@ func (s *Store) listsFiles(c *catalog) bool {
 // renamed into place or removed since it was written (folder mtimes) and
 // it lists exactly the entry files present, else one rebuilt by reading
 // every entry file (an older version wrote the library, a write was
-// interrupted, or files were added, removed or replaced by hand). The rebuilt one is written with the writer's
-// manifest, so the next writer finds it again.
+// interrupted, or files were added, removed or replaced by hand) and
+// written at once (see rebuildCatalog).
 func (s *Store) writerCatalog(m *manifest) *catalog {
 	if c, err := readCatalog(s.dir, m); err == nil && c.DirTimes == s.dirTimes() && s.listsFiles(c) {
 		return c
 	}
-	return s.scanCatalog(m.Revision)
+	return s.rebuildCatalog(m)
+}
+
+// rebuildCatalog reads every entry file and writes the catalogue they call
+// for with manifest m (same revision), so that the next writer and the
+// readers find it even if the caller's write is refused. The caller holds
+// the lock.
+func (s *Store) rebuildCatalog(m *manifest) *catalog {
+	c := s.scanCatalog(m.Revision)
+	s.writeManifestCatalog(m, c) // a failure only leaves the old one stale
+	return c
 }
 
 // scanCatalog builds the catalogue at revision rev by reading every entry

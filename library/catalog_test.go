@@ -221,6 +221,7 @@ func TestCatalogMissingOrStale(t *testing.T) {
 			if _, _, err := s2.Add(tiEntry("b", "carbide", 397, 3)); !errors.Is(err, ErrNameTaken) {
 				t.Errorf("name clash beside a spoilt catalogue: %v", err)
 			}
+			checkCatalogCurrent(t, s2) // even a refused write leaves the rebuilt catalogue
 			mustAdd(t, s2, tiEntry("c", "carbide", 397, 3))
 			checkCatalogCurrent(t, s2)
 			if n := len(storedCatalog(t, s2).rows); n != 3 {

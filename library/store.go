@@ -819,7 +819,7 @@ func (s *Store) resolveLocked(m *manifest, ref string) (*catalog, *Entry, error)
 	if e, ok := s.readRowEntry(row); ok {
 		return c, e, nil
 	}
-	c = s.scanCatalog(m.Revision)
+	c = s.rebuildCatalog(m)
 	if row, err = c.resolve(ref); err != nil {
 		return nil, nil, err
 	}
