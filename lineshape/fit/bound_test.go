@@ -4,6 +4,7 @@ import (
 	"context"
 	"math"
 	"math/rand/v2"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/floats/scalar"
@@ -92,4 +93,33 @@ func TestComplementWithTwoActive(t *testing.T) {
 		return
 	}
 	t.Fatal("no noise realisation put the nitride at its bound")
+}
+
+// TestModulationWarning checks that a derivative unknown without a
+// recorded modulation is said to be assumed at the references' modulation
+// only when no modulation was given in the options.
+func TestModulationWarning(t *testing.T) {
+	states := []state{stMetal, stOxide}
+	refs := refsFor(states, 300, 500, 0.5)
+	mx := mixture{states: states, coef: []float64{0.5, 0.5}}
+	_, d, _ := mx.clean(320, 470, 0.5)
+	u := withoutModulation(unknownSpectrum(320, 0.5, d))
+	for _, tc := range []struct {
+		modulation float64
+		warn       bool
+	}{{0, true}, {testModulation, false}} {
+		m, err := Prepare(u, refs, Options{Modulation: tc.modulation, Uncertainty: Covariance})
+		if err != nil {
+			t.Fatal(err)
+		}
+		got := false
+		for _, w := range m.Warnings() {
+			if strings.Contains(w, "modulation not recorded") {
+				got = true
+			}
+		}
+		if got != tc.warn {
+			t.Errorf("Options.Modulation %v: warnings %q, want the modulation warning: %v", tc.modulation, m.Warnings(), tc.warn)
+		}
+	}
 }

@@ -123,7 +123,10 @@ type Options struct {
 	// Modulation is the peak-to-peak modulation in eV used to emulate
 	// lock-in detection when a direct spectrum must be compared with
 	// derivative ones. If Modulation is 0, it is taken from the derivative
-	// spectra's Meta.ModulationEV.
+	// spectra's Meta.ModulationEV, and a derivative spectrum that records
+	// none is assumed to have that of the others, with a warning; a
+	// Modulation given here also applies to derivative spectra that record
+	// none, without a warning.
 	Modulation float64
 	// Element, if not empty, is the element the unknown is analysed for;
 	// a reference of another element is an error.

@@ -460,7 +460,9 @@ func (m *Model) reconcileModulation(u *lineshape.Spectrum, refs []Reference) (fl
 	if needConversion && k == 0 {
 		return 0, inputErr(m.unknownLabel, "a direct spectrum must be compared with derivative ones, but no modulation is recorded: give the modulation (peak-to-peak, eV) explicitly")
 	}
-	if len(unrecorded) > 0 && (len(recorded) > 0 || needConversion) {
+	// A modulation given in the options is what the user asked for: no
+	// need to say that it is assumed.
+	if len(unrecorded) > 0 && (len(recorded) > 0 || needConversion) && m.opts.Modulation == 0 {
 		m.warnings = append(m.warnings, fmt.Sprintf("modulation not recorded for %s: assumed to be %.3g eV like the others", strings.Join(unrecorded, ", "), k))
 	}
 	return k, nil
