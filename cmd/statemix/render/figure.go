@@ -8,6 +8,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
 
 	"gonum.org/v1/plot"
@@ -262,10 +263,63 @@ func FitFigure(res *fit.Result, title string) *Figure {
 		bot.Add(Line(e, []float64{-2 * s, -2 * s}, inkBack, 0.5, []vg.Length{1, 2}))
 	}
 	bot.Add(Line(cv.Energy, cv.Residual, inkData, 0.8, nil))
+	// Symmetric about 0 with round ticks: the largest |residual| (at least
+	// the 2 SD band) sets the range.
+	m := 2 * res.Quality.NoiseSD
+	for _, r := range cv.Residual {
+		if !math.IsNaN(r) && !math.IsInf(r, 0) {
+			m = math.Max(m, math.Abs(r))
+		}
+	}
+	if m > 0 {
+		lim, ticks := SymmetricTicks(m)
+		bot.Y.Min, bot.Y.Max = -lim, lim
+		bot.Y.Tick.Marker = ticks
+	}
 	top.X.Min, top.X.Max = cv.Energy[0], cv.Energy[len(cv.Energy)-1]
 	top.X.Tick.Label.Color = color.Transparent // the residual panel carries the energy labels
 	bot.X.Min, bot.X.Max = top.X.Min, top.X.Max
 	return &Figure{Panels: []Panel{{Plot: top, Weight: 3}, {Plot: bot, Weight: 1.2}}}
+}
+
+// SymmetricTicks returns the axis limit L >= m and ticks for the range
+// [-L, L]: 0 and whole multiples of a round step (1, 2, 2.5 or 5 times a
+// power of ten) chosen so that two or three ticks lie on each side, labelled
+// compactly ("250", "-0.5", "1e+04").
+func SymmetricTicks(m float64) (float64, plot.ConstantTicks) {
+	if !(m > 0) || math.IsInf(m, 0) {
+		return 1, plot.ConstantTicks{{Value: 0, Label: "0"}}
+	}
+	step := NiceStep(m / 3)
+	k := math.Ceil(m/step - 1e-9)
+	lim := k * step
+	var ticks plot.ConstantTicks
+	for i := -k; i <= k; i++ {
+		v := i * step
+		ticks = append(ticks, plot.Tick{Value: v, Label: CompactNumber(v)})
+	}
+	return lim, ticks
+}
+
+// NiceStep returns the smallest of 1, 2, 2.5 and 5 times a power of ten
+// that is at least x (> 0).
+func NiceStep(x float64) float64 {
+	p := math.Pow(10, math.Floor(math.Log10(x)))
+	for _, f := range []float64{1, 2, 2.5, 5, 10} {
+		if f*p >= x*(1-1e-9) {
+			return f * p
+		}
+	}
+	return 10 * p
+}
+
+// CompactNumber formats a tick value with at most 4 significant digits and
+// no trailing zeros ("250", "-0.05", "1.5e+05").
+func CompactNumber(v float64) string {
+	if math.Abs(v) < 1e-300 {
+		return "0"
+	}
+	return strconv.FormatFloat(v, 'g', 4, 64)
 }
 
 // curvesRange returns the smallest and largest finite value of the data,

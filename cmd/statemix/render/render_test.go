@@ -157,3 +157,31 @@ func TestFractionText(t *testing.T) {
 		}
 	}
 }
+
+func TestSymmetricTicks(t *testing.T) {
+	cases := []struct {
+		m      float64
+		lim    float64
+		labels string
+	}{
+		// The residual of the demo's pad fit reached about 170 (noise SD 44).
+		{170, 200, "-200 -100 0 100 200"},
+		{780, 1000, "-1000 -500 0 500 1000"},
+		{0.034, 0.04, "-0.04 -0.02 0 0.02 0.04"},
+		{2.4, 3, "-3 -2 -1 0 1 2 3"},
+		{1, 1, "-1 -0.5 0 0.5 1"},
+	}
+	for _, tc := range cases {
+		lim, ticks := SymmetricTicks(tc.m)
+		var labels []string
+		for _, tk := range ticks {
+			labels = append(labels, tk.Label)
+		}
+		if math.Abs(lim-tc.lim) > 1e-12*tc.lim || strings.Join(labels, " ") != tc.labels {
+			t.Errorf("SymmetricTicks(%v) = %v, %q; want %v, %q", tc.m, lim, labels, tc.lim, tc.labels)
+		}
+		if lim < tc.m {
+			t.Errorf("SymmetricTicks(%v): limit %v below the data", tc.m, lim)
+		}
+	}
+}
