@@ -13,6 +13,7 @@ import (
 	"strings"
 
 	"github.com/spf13/cobra"
+	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
@@ -493,7 +494,15 @@ func profileFigure(res *series.ProfileResult, depth bool, title string) *render.
 		}
 		p.Add(render.Line([]float64{xv, xv}, []float64{0, 1}, render.Palette[it.Component%len(render.Palette)], 0.6, []vg.Length{1, 2}))
 	}
-	p.Y.Min, p.Y.Max = -0.05, 1.05
+	// Headroom above 1 for the legend (top right), which otherwise covers
+	// the fraction curves that reach 1 at either end: about 0.06 per
+	// legend row; ticks only from 0 to 1.
+	p.Y.Min, p.Y.Max = -0.05, 1.07+0.06*float64(len(componentNames(res)))
+	var ticks plot.ConstantTicks
+	for v := 0; v <= 10; v += 2 {
+		ticks = append(ticks, plot.Tick{Value: float64(v) / 10, Label: strconv.FormatFloat(float64(v)/10, 'g', -1, 64)})
+	}
+	p.Y.Tick.Marker = ticks
 	return &render.Figure{Panels: []render.Panel{{Plot: p}}}
 }
 
