@@ -278,11 +278,7 @@ func profileTable(res *series.ProfileResult, depth bool, pq *profileQuant) *rend
 			row = append(row, fmtNum(s.DepthNM, "%.4g"))
 		}
 		for _, c := range s.Result.Components {
-			if c.AtBound {
-				row = append(row, fmt.Sprintf("0 (< %.1f)", 100*c.FractionCI95[1]))
-			} else {
-				row = append(row, fmt.Sprintf("%.1f ± %.1f", 100*c.Fraction, 100*c.FractionSD))
-			}
+			row = append(row, render.FractionText(c, true))
 		}
 		row = append(row, fmtNum(s.Result.Components[0].Shift, "%+.2f"), fmtNum(s.Result.Quality.Chi2Reduced, "%.3g"))
 		if pq != nil {

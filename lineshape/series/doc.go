@@ -37,11 +37,16 @@
 //
 //   - fit.Prepare, on a probe spectrum with the cube's axis and mode,
 //     validates the references and fixes mode, modulation, window and
-//     background degree exactly as a single fit would. The references,
-//     converted as Prepare converts them, are sampled by their monotone
-//     cubic Curve at every shift d_s of a grid of step ShiftStep (default
-//     0.1 eV) over [-MaxShift, MaxShift]; Legendre polynomials P_0..P_deg
-//     on the window are the free background columns.
+//     background degree exactly as a single fit would. The shift scan runs
+//     in the model's search space, as a single fit's does: every shift d_s
+//     of a grid of step ShiftStep (default 0.1 eV) over [-MaxShift,
+//     MaxShift] samples the references through fit.Model.SearchReference
+//     (a light Gaussian kernel whose noise gain does not depend on the
+//     sub-channel offset, so noisy references do not pull the shift
+//     towards half channels), and each pixel's data pass once through
+//     fit.Model.SearchData, the same kernel; Legendre polynomials
+//     P_0..P_deg on the window (their search-channel part in the scan)
+//     are the free background columns.
 //   - nnls.NewBank holds one matrix A_s = [R_1(E-d_s) .. R_K(E-d_s) P_0 ..
 //     P_deg] per shift, each with its Gram matrix, the Schur complement of
 //     the free background columns and the factorizations of every passive
@@ -66,7 +71,7 @@
 //     curves and the pixel is solved as package fit solves it: the Gram
 //     matrix of the columns is factored by Cholesky, L L^T, and the small
 //     problem min ||L^T x - L^-1 A^T b|| goes to nnls.Solver (if that
-//     fails, the solution at the nearest grid point, the best one, stands).
+//     fails, the pixel is NaN in every map and counted as failed).
 //     The coefficients, fractions c_i / sum c_j and reduced chi-square
 //     (RSS/DOF)/NoiseSD^2 (NoiseSD from the residual's second differences,
 //     DOF = channels - nonzero coefficients - background terms - 1 for the
