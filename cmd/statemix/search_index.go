@@ -82,10 +82,15 @@ func (a *App) openSearchIndex(store *library.Store) (*index.Index, error) {
 func readSpectrumBlock(path string, block int) (*lineshape.Spectrum, error) {
 	specs, err := format.ReadFile(path, format.Options{Block: block})
 	if err != nil {
+		if errors.Is(err, format.ErrNoBlock) {
+			// A block the file does not have is a command-line mistake,
+			// as it is for fit and convert.
+			return nil, usageErrorf("--block: %v", err)
+		}
 		return nil, err
 	}
 	if len(specs) != 1 {
-		return nil, &lineshape.InputError{File: path, Block: -1, Err: fmt.Errorf("%d spectra: choose one with --block", len(specs))}
+		return nil, usageErrorf("%s holds %d spectra: choose one with --block N", path, len(specs))
 	}
 	return specs[0], nil
 }

@@ -1,0 +1,56 @@
+package main
+
+import (
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+// Exit statuses and messages for command-line mistakes and bad input that
+// the per-command tests do not cover, found by using the program as an
+// analyst would. Each message must start with "statemix: " and name what
+// is wrong.
+func TestCLIMistakes(t *testing.T) {
+	_, metal, oxide, unknown := fitFixture(t)
+	lib := filepath.Join(t.TempDir(), "lib")
+	mustCLI(t, lib, "library", "init")
+	mustCLI(t, lib, "library", "add", metal, "--element", "Ti", "--transition", "L3M23M23", "--state", "metal", "--name", "Ti foil")
+	missing := filepath.Join(t.TempDir(), "no-such-library")
+	refs := []string{"--ref-file", metal, "--ref-file", oxide + ":oxide", "--uncertainty", "covariance"}
+	fit := func(extra ...string) []string {
+		return append(append([]string{"fit", unknown}, refs...), extra...)
+	}
+	cases := []struct {
+		name string
+		args []string
+		code int
+		msgs []string // each must appear in stderr
+	}{
+		// search --like follows fit and convert: a block the file lacks,
+		// or no block for a file of several, is a usage error.
+		{"search like block out of range", []string{"--library", lib, "search", "--like", tiVMS, "--block", "7"}, exitUsage,
+			[]string{"--block", "block 7", "has 2"}},
+		{"search like several blocks", []string{"--library", lib, "search", "--like", tiVMS}, exitUsage,
+			[]string{"2 spectra", "--block N"}},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			code, stdout, stderr := runApp(t, nil, c.args...)
+			if code != c.code {
+				t.Errorf("exit %d, want %d; stderr %q", code, c.code, stderr)
+			}
+			if !strings.HasPrefix(stderr, "statemix: ") {
+				t.Errorf("stderr %q does not start with \"statemix: \"", stderr)
+			}
+			for _, m := range c.msgs {
+				if !strings.Contains(stderr, m) {
+					t.Errorf("stderr %q lacks %q", stderr, m)
+				}
+			}
+			if stdout != "" {
+				t.Errorf("stdout %q, want nothing on failure", stdout)
+			}
+		})
+	}
+	_, _ = missing, fit
+}
