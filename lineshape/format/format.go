@@ -1,6 +1,8 @@
 package format
 
 import (
+	"statemix/internal/atomicfile"
+
 	"bytes"
 	"encoding/json"
 	"errors"
@@ -321,33 +323,6 @@ func VAMASMode(specs []*lineshape.Spectrum) string {
 
 // WriteFile writes specs to path in format (see Write) atomically: to a
 // temporary file in the same folder, synced, then renamed over path.
-func WriteFile(path string, specs []*lineshape.Spectrum, format string) (err error) {
-	dir, base := filepath.Split(path)
-	if dir == "" {
-		dir = "."
-	}
-	f, err := os.CreateTemp(dir, "."+base+".tmp*")
-	if err != nil {
-		return err
-	}
-	tmp := f.Name()
-	defer func() {
-		if err != nil {
-			f.Close()
-			os.Remove(tmp)
-		}
-	}()
-	if err = Write(f, specs, format); err != nil {
-		return err
-	}
-	if err = f.Chmod(0o644); err != nil {
-		return err
-	}
-	if err = f.Sync(); err != nil {
-		return err
-	}
-	if err = f.Close(); err != nil {
-		return err
-	}
-	return os.Rename(tmp, path)
+func WriteFile(path string, specs []*lineshape.Spectrum, format string) error {
+	return atomicfile.WriteFile(path, func(w io.Writer) error { return Write(w, specs, format) })
 }

@@ -1,6 +1,8 @@
 package npy
 
 import (
+	"statemix/internal/atomicfile"
+
 	"bufio"
 	"encoding/binary"
 	"errors"
@@ -8,7 +10,6 @@ import (
 	"io"
 	"math"
 	"os"
-	"path/filepath"
 	"sync"
 
 	"statemix/lineshape"
@@ -281,48 +282,5 @@ func WriteFile(path string, shape []int, data []float64, dtype string) error {
 	if _, _, err := canonicalDType(dtype); err != nil {
 		return err
 	}
-	return writeAtomic(path, func(w io.Writer) error { return Write(w, shape, data, dtype) })
-}
-
-// writeAtomic writes a file by temp file, fsync and rename.
-func writeAtomic(path string, fill func(io.Writer) error) (err error) {
-	dir, base := filepath.Split(path)
-	if dir == "" {
-		dir = "."
-	}
-	f, err := os.CreateTemp(dir, "."+base+".tmp*")
-	if err != nil {
-		return err
-	}
-	tmp := f.Name()
-	defer func() {
-		if err != nil {
-			f.Close()
-			os.Remove(tmp)
-		}
-	}()
-	bw := bufio.NewWriterSize(f, 1<<16)
-	if err = fill(bw); err != nil {
-		return err
-	}
-	if err = bw.Flush(); err != nil {
-		return err
-	}
-	if err = f.Chmod(0o644); err != nil {
-		return err
-	}
-	if err = f.Sync(); err != nil {
-		return err
-	}
-	if err = f.Close(); err != nil {
-		return err
-	}
-	if err = os.Rename(tmp, path); err != nil {
-		return err
-	}
-	if d, derr := os.Open(dir); derr == nil {
-		d.Sync() // best effort: make the rename durable
-		d.Close()
-	}
-	return nil
+	return atomicfile.WriteFile(path, func(w io.Writer) error { return Write(w, shape, data, dtype) })
 }

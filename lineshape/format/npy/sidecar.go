@@ -1,6 +1,8 @@
 package npy
 
 import (
+	"statemix/internal/atomicfile"
+
 	"bytes"
 	"encoding/json"
 	"errors"
@@ -171,7 +173,7 @@ func WriteSidecar(cubePath string, s Sidecar) error {
 		return err
 	}
 	b = append(b, '\n')
-	return writeAtomic(SidecarPath(cubePath), func(w io.Writer) error {
+	return atomicfile.WriteFile(SidecarPath(cubePath), func(w io.Writer) error {
 		_, err := w.Write(b)
 		return err
 	})

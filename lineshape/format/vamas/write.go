@@ -1,13 +1,13 @@
 package vamas
 
 import (
+	"statemix/internal/atomicfile"
+
 	"bufio"
 	"errors"
 	"fmt"
 	"io"
 	"math"
-	"os"
-	"path/filepath"
 	"strconv"
 	"strings"
 )
@@ -40,45 +40,16 @@ func Write(w io.Writer, f *File) error {
 // WriteFile writes f to path atomically: to a temporary file in the same
 // folder, synced to disk, then renamed over path (keeping the mode of a
 // file it replaces, else 0644). On error path is left as it was.
-func WriteFile(path string, f *File) (err error) {
-	dir, base := filepath.Split(path)
-	if dir == "" {
-		dir = "."
-	}
-	tmp, err := os.CreateTemp(dir, "."+base+".tmp*")
-	if err != nil {
+func WriteFile(path string, f *File) error {
+	var werr error // Write's own error goes back as it is; file system errors get the prefix
+	err := atomicfile.WriteFile(path, func(w io.Writer) error {
+		werr = Write(w, f)
+		return werr
+	})
+	if err != nil && werr == nil {
 		return fmt.Errorf("vamas: %w", err)
 	}
-	defer func() {
-		if err != nil {
-			tmp.Close()
-			os.Remove(tmp.Name())
-		}
-	}()
-	perm := os.FileMode(0o644) // CreateTemp makes 0600; give the file the usual mode
-	if fi, serr := os.Stat(path); serr == nil {
-		perm = fi.Mode().Perm() // keep the mode of the file being replaced
-	}
-	if err = tmp.Chmod(perm); err != nil {
-		return fmt.Errorf("vamas: %w", err)
-	}
-	if err = Write(tmp, f); err != nil {
-		return err
-	}
-	if err = tmp.Sync(); err != nil {
-		return fmt.Errorf("vamas: %w", err)
-	}
-	if err = tmp.Close(); err != nil {
-		return fmt.Errorf("vamas: %w", err)
-	}
-	if err = os.Rename(tmp.Name(), path); err != nil {
-		return fmt.Errorf("vamas: %w", err)
-	}
-	if d, derr := os.Open(dir); derr == nil {
-		d.Sync() // best effort: make the rename durable
-		d.Close()
-	}
-	return nil
+	return err
 }
 
 // sink is where a printer writes: a bufio.Writer or a strings.Builder.

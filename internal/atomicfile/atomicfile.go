@@ -1,0 +1,69 @@
+// Package atomicfile writes files so that a reader, or the file system
+// after a crash, sees either the old file or the complete new one, never a
+// part of it.
+package atomicfile
+
+import (
+	"bufio"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+)
+
+// WriteFile writes path through fill: into a temporary file in the same
+// folder (named ".<base>.tmp-*", so a leftover is recognisable), buffered,
+// flushed and fsynced, then renamed over path, and the folder is fsynced
+// so that the rename survives a crash. The new file keeps the permissions
+// of the file it replaces, or gets 0644. If anything fails, the temporary
+// file is removed and path is left as it was.
+func WriteFile(path string, fill func(io.Writer) error) (err error) {
+	dir, base := filepath.Split(path)
+	if dir == "" {
+		dir = "."
+	}
+	perm := os.FileMode(0o644) // CreateTemp makes 0600
+	if fi, serr := os.Stat(path); serr == nil {
+		perm = fi.Mode().Perm()
+	}
+	tmp, err := os.CreateTemp(dir, "."+base+".tmp-*")
+	if err != nil {
+		return err
+	}
+	renamed := false
+	defer func() {
+		if !renamed {
+			tmp.Close()
+			os.Remove(tmp.Name())
+		}
+	}()
+	w := bufio.NewWriterSize(tmp, 1<<16)
+	if err := fill(w); err != nil {
+		return err
+	}
+	if err := w.Flush(); err != nil {
+		return err
+	}
+	if err := tmp.Chmod(perm); err != nil {
+		return err
+	}
+	if err := tmp.Sync(); err != nil {
+		return err
+	}
+	if err := tmp.Close(); err != nil {
+		return err
+	}
+	if err := os.Rename(tmp.Name(), path); err != nil {
+		return err
+	}
+	renamed = true
+	d, err := os.Open(dir)
+	if err != nil {
+		return fmt.Errorf("%s: written, but the folder cannot be opened to sync it: %w", path, err)
+	}
+	defer d.Close()
+	if err := d.Sync(); err != nil {
+		return fmt.Errorf("%s: written, but the folder cannot be synced: %w", path, err)
+	}
+	return nil
+}
