@@ -1,8 +1,6 @@
 package format
 
 import (
-	"statemix/internal/atomicfile"
-
 	"bytes"
 	"encoding/json"
 	"errors"
@@ -13,6 +11,7 @@ import (
 	"path/filepath"
 	"strings"
 
+	"statemix/internal/atomicfile"
 	"statemix/lineshape"
 	"statemix/lineshape/format/delimited"
 	"statemix/lineshape/format/npy"

@@ -1,8 +1,6 @@
 package npy
 
 import (
-	"statemix/internal/atomicfile"
-
 	"bufio"
 	"encoding/binary"
 	"errors"
@@ -12,6 +10,7 @@ import (
 	"os"
 	"sync"
 
+	"statemix/internal/atomicfile"
 	"statemix/lineshape"
 )
 

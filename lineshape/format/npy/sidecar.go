@@ -1,8 +1,6 @@
 package npy
 
 import (
-	"statemix/internal/atomicfile"
-
 	"bytes"
 	"encoding/json"
 	"errors"
@@ -12,6 +10,7 @@ import (
 	"os"
 	"strings"
 
+	"statemix/internal/atomicfile"
 	"statemix/lineshape"
 )
 

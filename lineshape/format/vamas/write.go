@@ -1,8 +1,6 @@
 package vamas
 
 import (
-	"statemix/internal/atomicfile"
-
 	"bufio"
 	"errors"
 	"fmt"
@@ -10,6 +8,8 @@ import (
 	"math"
 	"strconv"
 	"strings"
+
+	"statemix/internal/atomicfile"
 )
 
 // Write writes f to w in ISO 14976 form, one item per line, lines ending in
