@@ -3,6 +3,8 @@ package main
 import (
 	"errors"
 	"fmt"
+	"io/fs"
+	"os"
 
 	"statemix/library"
 )
@@ -19,8 +21,15 @@ func (a *App) openLibrary(write bool) (*library.Store, error) {
 	}
 	st, err := library.Open(dir)
 	if err != nil {
+		where := ""
+		if a.LibraryFlag == "" && a.Getenv("STATEMIX_LIBRARY") == "" {
+			where = " (the default folder: no --library and no $STATEMIX_LIBRARY)"
+		}
+		if _, serr := os.Stat(dir); errors.Is(serr, fs.ErrNotExist) {
+			return nil, fmt.Errorf("library %s does not exist%s: create it with statemix library init, or choose another with --library or $STATEMIX_LIBRARY", dir, where)
+		}
 		if errors.Is(err, library.ErrNotLibrary) {
-			return nil, fmt.Errorf("library %s: not a statemix library (create it with statemix library init, or choose another with --library)", dir)
+			return nil, fmt.Errorf("library %s: not a statemix library%s (create it with statemix library init, or choose another with --library)", dir, where)
 		}
 		return nil, fmt.Errorf("library %s: %w", dir, err)
 	}

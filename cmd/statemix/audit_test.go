@@ -32,10 +32,23 @@ func TestCLIMistakes(t *testing.T) {
 			[]string{"--block", "block 7", "has 2"}},
 		{"search like several blocks", []string{"--library", lib, "search", "--like", tiVMS}, exitUsage,
 			[]string{"2 spectra", "--block N"}},
+		// A library folder that does not exist says so and how to make
+		// one; fit adds how to work without a library.
+		{"fit library missing", []string{"--library", missing, "fit", unknown, "--refs", "Ti foil"}, exitFailure,
+			[]string{missing, "does not exist", "statemix library init", "--ref-file FILE:STATE"}},
+		{"list library missing", []string{"--library", missing, "library", "list"}, exitFailure,
+			[]string{missing, "does not exist", "statemix library init"}},
+		{"default library missing", []string{"library", "list"}, exitFailure,
+			[]string{"does not exist", "the default folder"}},
+		{"fit no references", []string{"fit", unknown}, exitBadInput,
+			[]string{"no references", "--refs", "--suggest", "--ref-file FILE:STATE"}},
+		// --element is checked as library add checks it.
+		{"fit element helium", fit("--element", "He"), exitUsage, []string{"--element He", "no Auger transition"}},
+		{"fit element unknown", fit("--element", "Xx"), exitUsage, []string{"--element Xx", `"Xx"`}},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
-			code, stdout, stderr := runApp(t, nil, c.args...)
+			code, stdout, stderr := runApp(t, map[string]string{"HOME": missing}, c.args...)
 			if code != c.code {
 				t.Errorf("exit %d, want %d; stderr %q", code, c.code, stderr)
 			}
@@ -52,5 +65,4 @@ func TestCLIMistakes(t *testing.T) {
 			}
 		})
 	}
-	_, _ = missing, fit
 }

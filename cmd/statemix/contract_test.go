@@ -128,7 +128,6 @@ func walkJSON(t *testing.T, what string, v map[string]any, path string) []map[st
 	return objs
 }
 
-
 func TestJSONContract(t *testing.T) {
 	demo := t.TempDir()
 	runDemoIn(t, demo)

@@ -24,6 +24,7 @@ import (
 	"statemix/lineshape"
 	"statemix/lineshape/fit"
 	"statemix/lineshape/format"
+	"statemix/lineshape/quant"
 )
 
 // fitOptions holds the flag values of statemix fit and what runFit derives
@@ -262,6 +263,13 @@ func parseFitFlags(opts *fitOptions) error {
 		return usageErrorf("--modulation %v: want a peak-to-peak amplitude in eV", opts.Modulation)
 	}
 	o.Modulation = opts.Modulation
+	if opts.Element != "" {
+		// Validate the symbol the way library add does, so that --element He
+		// or a typing slip says so instead of "no references of element".
+		if err := quant.CheckAugerElement(canonicalSymbol(opts.Element)); err != nil {
+			return usageErrorf("--element %s: %v", opts.Element, err)
+		}
+	}
 	o.Element = opts.Element
 	if opts.Window != "" {
 		w, err := parseWindow(opts.Window)
@@ -289,6 +297,16 @@ func parseFitFlags(opts *fitOptions) error {
 	}
 	opts.fit = o
 	return nil
+}
+
+// canonicalSymbol spells an element symbol as IUPAC writes it ("ti" and
+// "TI" become "Ti"); --element matches references case-insensitively.
+func canonicalSymbol(s string) string {
+	s = strings.TrimSpace(s)
+	if s == "" {
+		return s
+	}
+	return strings.ToUpper(s[:1]) + strings.ToLower(s[1:])
 }
 
 // parseWindow parses --window LO:HI (eV, LO < HI, both finite).
@@ -452,6 +470,9 @@ func gatherReferences(app *App, unknown *lineshape.Spectrum, opts *fitOptions) (
 	if useLibrary {
 		s, err := app.openLibrary(false)
 		if err != nil {
+			if len(opts.RefFiles) == 0 && !opts.Save {
+				return nil, fmt.Errorf("%w; without a library, give the references as --ref-file FILE:STATE", err)
+			}
 			return nil, err
 		}
 		st = s
@@ -529,7 +550,7 @@ func gatherReferences(app *App, unknown *lineshape.Spectrum, opts *fitOptions) (
 		}
 	}
 	if len(refs) == 0 {
-		return nil, badInputf("%s: no references: give --refs, --element or --ref-file", opts.File)
+		return nil, badInputf("%s: no references: give library references with --refs, --element or --suggest, or files with --ref-file FILE:STATE", opts.File)
 	}
 	return refs, nil
 }
