@@ -8,6 +8,7 @@ import (
 	"os"
 	"os/signal"
 	"path/filepath"
+	"regexp"
 	"strings"
 	"time"
 
@@ -188,7 +189,23 @@ func isCobraUsage(err error) bool {
 	return false
 }
 
-// flagUsage turns cobra's flag parsing errors into usage errors.
+// flagUsage turns cobra's flag parsing errors into usage errors, with
+// the strconv detail of a value that is not a number put in words.
 func flagUsage(cmd *cobra.Command, err error) error {
+	if m := strconvDetail.FindStringSubmatchIndex(err.Error()); m != nil {
+		msg := err.Error()
+		kind, why := msg[m[2]:m[3]], msg[m[4]:m[5]]
+		want := map[string]string{"Int": "a whole number", "Uint": "a whole number, 0 or more",
+			"Float": "a number", "Bool": "true or false"}[kind]
+		if why == "value out of range" {
+			want += " in range"
+		}
+		return &usageError{fmt.Errorf("%swant %s", msg[:m[0]], want)}
+	}
 	return &usageError{err}
 }
+
+// strconvDetail matches the tail pflag copies from strconv into its error
+// for a flag value that does not parse ("strconv.ParseInt: parsing "x":
+// invalid syntax").
+var strconvDetail = regexp.MustCompile(`strconv\.Parse(Int|Uint|Float|Bool): parsing "[^"]*": (invalid syntax|value out of range)$`)

@@ -66,3 +66,23 @@ func TestCLIMistakes(t *testing.T) {
 		})
 	}
 }
+
+// A flag value that does not parse is explained in words, not with the
+// strconv function that failed.
+func TestFlagValueMessages(t *testing.T) {
+	for _, c := range []struct {
+		args []string
+		want string
+	}{
+		{[]string{"fit", "x.vms", "--samples", "abc"}, `invalid argument "abc" for "--samples" flag: want a whole number`},
+		{[]string{"fit", "x.vms", "--seed", "-1"}, `"--seed" flag: want a whole number, 0 or more`},
+		{[]string{"fit", "x.vms", "--max-shift", "two"}, `"--max-shift" flag: want a number`},
+		{[]string{"map", "x.npy", "--workers", "1e9999"}, `"--workers" flag: want a whole number`},
+		{[]string{"--quiet=maybe", "version"}, `"--quiet" flag: want true or false`},
+	} {
+		code, _, stderr := runApp(t, nil, c.args...)
+		if code != exitUsage || !strings.HasPrefix(stderr, "statemix: ") || !strings.Contains(stderr, c.want) || strings.Contains(stderr, "strconv") {
+			t.Errorf("%v: exit %d, stderr %q; want exit 2 and %q", c.args, code, stderr, c.want)
+		}
+	}
+}
