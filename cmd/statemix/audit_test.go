@@ -86,3 +86,18 @@ func TestFlagValueMessages(t *testing.T) {
 		}
 	}
 }
+
+// --suggest takes an optional K, so "--suggest 3" leaves 3 as a second
+// file argument; the message says to write --suggest=3.
+func TestSuggestSpaceK(t *testing.T) {
+	for _, cmd := range []string{"fit", "map"} {
+		code, _, stderr := runApp(t, nil, cmd, "x.vms", "--suggest", "3")
+		if code != exitUsage || !strings.Contains(stderr, "write --suggest=3") {
+			t.Errorf("%s --suggest 3: exit %d, stderr %q; want exit 2 and the advice to write --suggest=3", cmd, code, stderr)
+		}
+	}
+	// Two files are still refused as before.
+	if code, _, stderr := runApp(t, nil, "fit", "a.vms", "b.vms"); code != exitUsage || !strings.Contains(stderr, "received 2") {
+		t.Errorf("fit a b: exit %d, stderr %q", code, stderr)
+	}
+}

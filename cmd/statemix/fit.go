@@ -101,7 +101,7 @@ library revision) needed to reproduce the result.`,
 
   # Oxide thickness on the metal from the fitted coefficients
   statemix fit spot1.vms --element Al --overlayer oxide:metal --take-off 42`,
-		Args: cobra.ExactArgs(1),
+		Args: oneFileArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			opts.File = args[0]
 			opts.TakeOffSet = cmd.Flags().Changed("take-off")
@@ -120,6 +120,18 @@ library revision) needed to reproduce the result.`,
 	_ = cmd.MarkFlagFilename("report", "html")
 	_ = cmd.RegisterFlagCompletionFunc("block", cobra.NoFileCompletions)
 	return cmd
+}
+
+// oneFileArgs accepts exactly one FILE argument. A second argument that is
+// a number right after --suggest is the K of "--suggest K", which the flag
+// cannot take (its K is optional): it says to write --suggest=K.
+func oneFileArgs(cmd *cobra.Command, args []string) error {
+	if len(args) == 2 && cmd.Flags().Changed("suggest") {
+		if _, err := strconv.Atoi(args[1]); err == nil {
+			return usageErrorf("--suggest %s: the number of references goes after an equals sign: write --suggest=%s", args[1], args[1])
+		}
+	}
+	return cobra.ExactArgs(1)(cmd, args)
 }
 
 // modelFlags says how registerModelFlags words and sets up the model flags

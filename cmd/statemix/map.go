@@ -55,7 +55,7 @@ title), shift.npy (eV), chi2.npy (reduced chi-square) and map.json. Results do
 not depend on --workers. Nothing is written if the run is interrupted.`,
 		Example: `  # Three library references, shifts within 2 eV, all cores
   statemix map area7.npy --refs "Ti foil","TiO2 film","TiN film" --max-shift 2 --out area7-maps`,
-		Args: cobra.ExactArgs(1),
+		Args: oneFileArgs,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			opts.File = args[0]
 			opts.command = reproduceCommand(cmd, args)
