@@ -101,3 +101,22 @@ func TestSuggestSpaceK(t *testing.T) {
 		t.Errorf("fit a b: exit %d, stderr %q", code, stderr)
 	}
 }
+
+// A thickness and its SD are printed to the same decimal place.
+func TestThicknessText(t *testing.T) {
+	for _, c := range []struct {
+		nm, sd float64
+		want   string
+	}{
+		{3.0412, 0.0331, "3.041 ± 0.033 nm"}, // printed "3.04 ± 0.033 nm" before
+		{25.04, 3.1, "25.0 ± 3.1 nm"},
+		{3.0412, 0.31, "3.04 ± 0.31 nm"},
+		{140.2, 12, "140 ± 12 nm"},
+		{3.0412, 0, "3.04 nm"},
+		{0.5, 0.00004, "0.500 ± 0.000 nm"},
+	} {
+		if got := thicknessText(c.nm, c.sd); got != c.want {
+			t.Errorf("thicknessText(%v, %v) = %q, want %q", c.nm, c.sd, got, c.want)
+		}
+	}
+}

@@ -706,7 +706,7 @@ func writeFitHuman(app *App, opts *fitOptions, res *fit.Result, doc *fitDocument
 		_ = atomicTable(doc.Atomic).WriteText(w)
 	}
 	if ov := doc.Overlayer; ov != nil {
-		fmt.Fprintf(w, "\n%s thickness on %s: %.3g ± %.2g nm (take-off %.3g°, %s)\n", ov.Overlayer, ov.Substrate, ov.ThicknessNM, ov.SDNM, ov.TakeOffDeg, ov.Method)
+		fmt.Fprintf(w, "\n%s thickness on %s: %s (take-off %.3g°, %s)\n", ov.Overlayer, ov.Substrate, thicknessText(ov.ThicknessNM, ov.SDNM), ov.TakeOffDeg, ov.Method)
 	}
 	if doc.Saved != "" {
 		fmt.Fprintf(w, "saved as %s\n", doc.Saved)

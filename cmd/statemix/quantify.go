@@ -309,11 +309,24 @@ func fitOverlayer(q *quantifier, unknown *lineshape.Spectrum, res *fit.Result) (
 		TakeOffDeg: t.TakeOff, Method: t.Method, Warnings: t.Warnings}, nil
 }
 
+// thicknessText prints a thickness and its standard deviation in nm with
+// the same number of decimals, set by two significant digits of the SD
+// (common practice, as the GUM recommends), between 0 and 3 decimals:
+// "3.040 ± 0.033 nm", "25.0 ± 3.1 nm"; "3.04 nm" without an SD.
+func thicknessText(nm, sd float64) string {
+	if !(sd > 0) || math.IsInf(sd, 0) {
+		return fmt.Sprintf("%.2f nm", nm)
+	}
+	d := 1 - int(math.Floor(math.Log10(sd)))
+	d = max(0, min(3, d))
+	return fmt.Sprintf("%.*f ± %.*f nm", d, nm, d, sd)
+}
+
 func overlayerSection(ov *overlayerResult) render.Section {
 	return render.Section{Heading: "Overlayer thickness", Blocks: []render.Block{
 		render.KeyValues([][2]string{
 			{"overlayer / substrate", ov.Overlayer + " on " + ov.Substrate},
-			{"thickness", fmt.Sprintf("%.3g ± %.2g nm", ov.ThicknessNM, ov.SDNM)},
+			{"thickness", thicknessText(ov.ThicknessNM, ov.SDNM)},
 			{"coefficient ratio", fmt.Sprintf("%.4g", ov.Ratio)},
 			{"take-off angle", fmt.Sprintf("%.3g° from the surface", ov.TakeOffDeg)},
 			{"model", ov.Method},
