@@ -120,3 +120,21 @@ func TestThicknessText(t *testing.T) {
 		}
 	}
 }
+
+// The map's timing line counts workers in words and pixels per second
+// without an exponent (it printed "1 workers (7.61e+04 pixels/s)").
+func TestMapTiming(t *testing.T) {
+	for _, c := range []struct {
+		s       float64
+		workers int
+		pixels  int
+		want    string
+	}{
+		{0.0135, 1, 1024, "fitted in 0.0135 s with 1 worker (75852 pixels/s)"},
+		{12.5, 2, 262144, "fitted in 12.5 s with 2 workers (20972 pixels/s)"},
+	} {
+		if got := mapTiming(c.s, c.workers, c.pixels); got != c.want {
+			t.Errorf("mapTiming(%v, %d, %d) = %q, want %q", c.s, c.workers, c.pixels, got, c.want)
+		}
+	}
+}
