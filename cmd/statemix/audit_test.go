@@ -138,3 +138,22 @@ func TestMapTiming(t *testing.T) {
 		}
 	}
 }
+
+// convert counts "1 spectrum", and says when --to asks for the mode a
+// spectrum already has (it wrote the data unchanged without a word).
+func TestConvertMessages(t *testing.T) {
+	_, metal, _, _ := fitFixture(t) // a derivative spectrum
+	out := filepath.Join(t.TempDir(), "m.csv")
+	code, _, stderr := runApp(t, nil, "convert", metal, "--to", "derivative", "-o", out)
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	for _, want := range []string{"block 1 is already derivative: written unchanged", "wrote 1 spectrum to "} {
+		if !strings.Contains(stderr, want) {
+			t.Errorf("stderr %q lacks %q", stderr, want)
+		}
+	}
+	if _, _, stderr := runApp(t, nil, "--quiet", "convert", metal, "--to", "derivative", "-o", out); stderr != "" {
+		t.Errorf("--quiet: stderr %q, want nothing", stderr)
+	}
+}

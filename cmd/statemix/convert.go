@@ -129,7 +129,7 @@ func runConvert(app *App, opts *convertOptions) error {
 		if err := format.WriteFile(opts.Output, specs, outFormat); err != nil {
 			return fmt.Errorf("%s: %w", opts.Output, err)
 		}
-		app.Infof("wrote %d spectra to %s (%s)\n", len(specs), opts.Output, outFormat)
+		app.Infof("wrote %d %s to %s (%s)\n", len(specs), plural(len(specs), "spectrum", "spectra"), opts.Output, outFormat)
 		return nil
 	}
 	// Whole output first, so that a failure leaves stdout empty.
@@ -146,7 +146,11 @@ func runConvert(app *App, opts *convertOptions) error {
 func convertMode(app *App, opts *convertOptions, s *lineshape.Spectrum) (*lineshape.Spectrum, error) {
 	want := map[string]lineshape.Mode{"derivative": lineshape.Derivative, "direct": lineshape.Direct}
 	target, ok := want[opts.To]
-	if !ok || s.Mode == target {
+	if !ok {
+		return s, nil
+	}
+	if s.Mode == target {
+		app.Infof("%s: block %d is already %s: written unchanged\n", opts.File, s.Meta.Block+1, target)
 		return s, nil
 	}
 	bad := func(err error) error {
