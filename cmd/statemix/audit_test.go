@@ -157,3 +157,16 @@ func TestConvertMessages(t *testing.T) {
 		t.Errorf("--quiet: stderr %q, want nothing", stderr)
 	}
 }
+
+// calc prints the numbers it was given as given: 1000000 eV, not 1e+06 eV.
+func TestCalcPlainNumbers(t *testing.T) {
+	code, out, stderr := runApp(t, nil, "calc", "imfp", "--formula", "SiO2", "--energy", "1000000")
+	if code != 0 || !strings.Contains(out, "1000000 eV electrons") || strings.Contains(out, "e+") {
+		t.Errorf("calc imfp: exit %d, stdout %q (%s); want the energy as 1000000 eV", code, out, stderr)
+	}
+	code, out, stderr = runApp(t, nil, "calc", "overlayer", "--ratio", "2500000", "--n-overlayer", "1", "--n-substrate", "1",
+		"--lambda-overlayer", "2", "--lambda-substrate", "2", "--take-off", "42")
+	if code != 0 || !strings.Contains(out, "ratio 2500000") || !strings.Contains(out, "take-off 42°") {
+		t.Errorf("calc overlayer: exit %d, stdout %q (%s)", code, out, stderr)
+	}
+}

@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"strconv"
 
 	"github.com/spf13/cobra"
 
@@ -227,11 +228,11 @@ func runCalcImfp(app *App, o *calcImfpOptions) error {
 		return encodeCalc(app.Out, out)
 	}
 	if out.IMFPNM != nil {
-		fmt.Fprintf(app.Out, "IMFP %.3f nm  (%s, %g eV electrons; %s rho %g g/cm3, Nv %g, Eg %g eV)\n",
-			*out.IMFPNM, "TPP-2M", o.Energy, m.Formula, m.Density, m.ValenceElectrons, m.BandGap)
+		fmt.Fprintf(app.Out, "IMFP %.3f nm  (%s, %s eV electrons; %s rho %s g/cm3, Nv %s, Eg %s eV)\n",
+			*out.IMFPNM, "TPP-2M", plainNum(o.Energy), m.Formula, plainNum(m.Density), plainNum(m.ValenceElectrons), plainNum(m.BandGap))
 	} else {
-		fmt.Fprintf(app.Out, "attenuation length %.3f nm  (Seah-Dench 1979, %g eV electrons; %s rho %g g/cm3, monolayer %.4f nm)\n",
-			*out.AttenuationLengthNM, o.Energy, m.Formula, m.Density, *out.MonolayerNM)
+		fmt.Fprintf(app.Out, "attenuation length %.3f nm  (Seah-Dench 1979, %s eV electrons; %s rho %s g/cm3, monolayer %.4f nm)\n",
+			*out.AttenuationLengthNM, plainNum(o.Energy), m.Formula, plainNum(m.Density), *out.MonolayerNM)
 	}
 	if out.AtomicDensityPerCM != nil {
 		fmt.Fprintf(app.Out, "N(%s) %.4e atoms/cm3 in %s\n", o.Element, *out.AtomicDensityPerCM, m.Formula)
@@ -365,8 +366,8 @@ func runCalcOverlayer(app *App, o *calcOverlayerOptions) error {
 	if out.ThicknessSDNM != nil {
 		sd = fmt.Sprintf(" +/- %.3f", th.SD)
 	}
-	fmt.Fprintf(app.Out, "overlayer thickness %.3f%s nm  (Strohmeier 1990, take-off %g deg, ratio %g, k = N_ov L_ov / N_sub L_sub = %.4f)\n",
-		th.Thickness, sd, th.TakeOff, th.Ratio, th.K)
+	fmt.Fprintf(app.Out, "overlayer thickness %.3f%s nm  (Strohmeier 1990, take-off %s°, ratio %s, k = N_ov L_ov / N_sub L_sub = %.4f)\n",
+		th.Thickness, sd, plainNum(th.TakeOff), plainNum(th.Ratio), th.K)
 	return nil
 }
 
@@ -376,4 +377,10 @@ func encodeCalc(w io.Writer, v any) error {
 	enc.SetIndent("", "  ")
 	enc.SetEscapeHTML(false)
 	return enc.Encode(v)
+}
+
+// plainNum prints a number as given, without an exponent (1000000, not
+// 1e+06; 2.19, not 2.190).
+func plainNum(v float64) string {
+	return strconv.FormatFloat(v, 'f', -1, 64)
 }
