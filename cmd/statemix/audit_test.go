@@ -170,3 +170,38 @@ func TestCalcPlainNumbers(t *testing.T) {
 		t.Errorf("calc overlayer: exit %d, stdout %q (%s)", code, out, stderr)
 	}
 }
+
+// --refs completes after the unknown's FILE too, after a comma, and offers
+// references only (it offered nothing once FILE was typed, and archived
+// measurements, which --refs refuses).
+func TestRefsCompletion(t *testing.T) {
+	_, metal, oxide, unknown := fitFixture(t)
+	dir := t.TempDir()
+	mustCLI(t, dir, "library", "init")
+	mustCLI(t, dir, "library", "add", metal, "--element", "Ti", "--transition", "L3M23M23", "--state", "metal", "--name", "Ti foil")
+	mustCLI(t, dir, "library", "add", oxide, "--element", "Ti", "--transition", "L3M23M23", "--state", "oxide", "--name", "TiO2 film")
+	mustCLI(t, dir, "fit", unknown, "--refs", "Ti foil,TiO2 film", "--uncertainty", "covariance", "--save")
+	for _, c := range []struct {
+		args      []string
+		want, not []string
+	}{
+		{[]string{"fit", unknown, "--refs", ""}, []string{"Ti foil\t", "TiO2 film\t"}, []string{"unknown"}},
+		{[]string{"profile", unknown, "--refs", "Ti foil,"}, []string{"Ti foil,TiO2 film\t"}, []string{"Ti foil,Ti foil"}},
+		{[]string{"map", unknown, "--refs", "TiO"}, []string{"TiO2 film\t"}, []string{"Ti foil"}},
+	} {
+		code, out, stderr := libCLI(t, dir, append([]string{"__complete"}, c.args...)...)
+		if code != 0 {
+			t.Fatalf("%v: exit %d: %s", c.args, code, stderr)
+		}
+		for _, w := range c.want {
+			if !strings.Contains(out, w) {
+				t.Errorf("%v: completions %q lack %q", c.args, out, w)
+			}
+		}
+		for _, n := range c.not {
+			if strings.Contains(out, n) {
+				t.Errorf("%v: completions %q offer %q", c.args, out, n)
+			}
+		}
+	}
+}

@@ -186,7 +186,7 @@ func registerModelFlags(app *App, cmd *cobra.Command, opts *fitOptions, m modelF
 	}
 	enum("shift", "none", "common", "each")
 	enum("normalize", "none", "peak-to-peak", "area")
-	_ = cmd.RegisterFlagCompletionFunc("refs", completeRefs(app))
+	_ = cmd.RegisterFlagCompletionFunc("refs", completeRefList(app))
 	_ = cmd.RegisterFlagCompletionFunc("element", completeElements(app))
 	for _, n := range []string{"suggest", "modulation", "window", "max-shift", "background", "samples", "seed"} {
 		if f.Lookup(n) != nil {

@@ -128,6 +128,41 @@ func completeRefs(app *App) func(*cobra.Command, []string, string) ([]string, co
 	}
 }
 
+// completeRefList completes the comma-separated --refs of fit, profile
+// and map: whatever the positional arguments, the part after the last
+// comma, with the names of the library's references (archived
+// measurements cannot be references) not already listed.
+func completeRefList(app *App) func(*cobra.Command, []string, string) ([]string, cobra.ShellCompDirective) {
+	return func(cmd *cobra.Command, args []string, toComplete string) ([]string, cobra.ShellCompDirective) {
+		st, err := app.openLibrary(false)
+		if err != nil {
+			return nil, cobra.ShellCompDirectiveNoFileComp | cobra.ShellCompDirectiveError
+		}
+		head, last := "", toComplete
+		if i := strings.LastIndex(toComplete, ","); i >= 0 {
+			head, last = toComplete[:i+1], toComplete[i+1:]
+		}
+		listed := map[string]bool{}
+		for _, r := range strings.Split(head, ",") {
+			listed[strings.TrimSpace(r)] = true
+		}
+		es, _ := st.Entries()
+		var out []string
+		for _, e := range es {
+			if e.Kind == library.KindMeasurement || listed[e.Name] || listed[e.ID] {
+				continue
+			}
+			desc := strings.TrimSpace(fmt.Sprintf("%s %s %s %s", e.ID, e.Element, e.Transition, e.State))
+			if strings.HasPrefix(e.Name, last) {
+				out = append(out, head+e.Name+"\t"+desc)
+			} else if last != "" && strings.HasPrefix(e.ID, last) {
+				out = append(out, head+e.ID+"\t"+e.Name)
+			}
+		}
+		return out, cobra.ShellCompDirectiveNoFileComp | cobra.ShellCompDirectiveNoSpace
+	}
+}
+
 // completeStates completes --state values.
 func completeStates(cmd *cobra.Command, args []string, toComplete string) ([]string, cobra.ShellCompDirective) {
 	return append(append([]string(nil), library.States...), "other:"), cobra.ShellCompDirectiveNoFileComp | cobra.ShellCompDirectiveNoSpace
