@@ -205,3 +205,21 @@ func TestRefsCompletion(t *testing.T) {
 		}
 	}
 }
+
+func TestSigNum(t *testing.T) {
+	for _, c := range []struct {
+		v    float64
+		want string
+	}{
+		{13903.6, "13900"}, // printed 1.39e+04 before
+		{0.022345, "0.02235"},
+		{10, "10"},
+		{2.5e-7, "2.5e-07"},
+		{-1393.27, "-1393"},
+		{0, "0"},
+	} {
+		if got := sigNum(c.v, 4); got != c.want {
+			t.Errorf("sigNum(%v, 4) = %q, want %q", c.v, got, c.want)
+		}
+	}
+}

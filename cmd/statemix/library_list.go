@@ -4,8 +4,10 @@ import (
 	"bytes"
 	"encoding/json"
 	"fmt"
+	"math"
 	"path/filepath"
 	"sort"
+	"strconv"
 	"strings"
 
 	"github.com/spf13/cobra"
@@ -188,7 +190,7 @@ func runLibraryShow(app *App, o *libraryShowOptions) error {
 	}
 	num := func(k string, v float64, unit string) {
 		if v != 0 {
-			row(k, strings.TrimSpace(fmt.Sprintf("%g %s", v, unit)))
+			row(k, strings.TrimSpace(sigNum(v, 4)+" "+unit))
 		}
 	}
 	row("id", e.ID)
@@ -238,7 +240,7 @@ func runLibraryShow(app *App, o *libraryShowOptions) error {
 		}
 		row("spectrum", fmt.Sprintf("%s, %d channels, %s eV, %s", s.Mode, s.Len(), energyRange(e), step))
 		if fe, ok := library.MainFeature(s); ok {
-			row("main feature", fmt.Sprintf("%.1f eV (peak-to-peak %.4g)", fe, s.Features(0).PeakToPeak))
+			row("main feature", fmt.Sprintf("%.1f eV (peak-to-peak %s in the file's units)", fe, sigNum(s.Features(0).PeakToPeak, 4)))
 		}
 	}
 	if len(e.Fit) > 0 {
@@ -290,4 +292,19 @@ func plotEntry(e *library.Entry, path string) error {
 	}
 	fig := &render.Figure{Panels: []render.Panel{{Plot: p}}}
 	return fig.WriteFile(path)
+}
+
+// sigNum prints v with n significant digits and no exponent while that
+// stays readable (1e-4 <= |v| < 1e9): 13900 rather than 1.39e+04, 0.02234
+// rather than 2.234e-02.
+func sigNum(v float64, n int) string {
+	if v == 0 || math.IsNaN(v) || math.IsInf(v, 0) {
+		return strconv.FormatFloat(v, 'g', -1, 64)
+	}
+	e := int(math.Floor(math.Log10(math.Abs(v))))
+	if e < -4 || e >= 9 {
+		return strconv.FormatFloat(v, 'g', n, 64)
+	}
+	r, _ := strconv.ParseFloat(strconv.FormatFloat(v, 'g', n, 64), 64) // round to n digits
+	return strconv.FormatFloat(r, 'f', -1, 64)
 }
