@@ -2,6 +2,7 @@ package main
 
 import (
 	"path/filepath"
+	"regexp"
 	"strings"
 	"testing"
 )
@@ -220,6 +221,33 @@ func TestSigNum(t *testing.T) {
 	} {
 		if got := sigNum(c.v, 4); got != c.want {
 			t.Errorf("sigNum(%v, 4) = %q, want %q", c.v, got, c.want)
+		}
+	}
+}
+
+// An archived measurement has no state: the search tables print "-" in
+// its column rather than a blank that shifts the eye to the next column.
+func TestSearchTableBlankState(t *testing.T) {
+	_, metal, oxide, unknown := fitFixture(t)
+	dir := t.TempDir()
+	mustCLI(t, dir, "library", "init")
+	mustCLI(t, dir, "library", "add", metal, "--element", "Ti", "--transition", "L3M23M23", "--state", "metal", "--name", "Ti foil")
+	mustCLI(t, dir, "fit", unknown, "--refs", "Ti foil", "--ref-file", oxide+":oxide", "--uncertainty", "covariance", "--save")
+	for _, args := range [][]string{{"search", "kind:measurement"}, {"search", "--like", unknown}} {
+		out := mustCLI(t, dir, args...)
+		found := false
+		for _, line := range strings.Split(out, "\n") {
+			if !strings.Contains(line, "measurement") || strings.HasPrefix(line, "REF") {
+				continue
+			}
+			found = true
+			cols := regexp.MustCompile(`\s{2,}`).Split(strings.TrimSpace(line), -1)
+			if len(cols) != 7 || cols[4] != "-" {
+				t.Errorf("%v: row %q splits into %q, want 7 columns with state \"-\"", args, line, cols)
+			}
+		}
+		if !found {
+			t.Errorf("%v: no measurement row in\n%s", args, out)
 		}
 	}
 }

@@ -168,12 +168,12 @@ func writeSearchTable(w io.Writer, hits []index.Hit, total int, like bool) error
 	if like {
 		fmt.Fprintln(tw, "REF\tNAME\tKIND\tELEMENT\tSTATE\tSIMILARITY\tSHIFT eV")
 		for _, h := range hits {
-			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%.4f\t%+.2f\n", h.Ref, h.Name, h.Kind, h.Element, h.State, h.Similarity, h.ShiftEV)
+			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%.4f\t%+.2f\n", h.Ref, h.Name, h.Kind, dash(h.Element), dash(h.State), h.Similarity, h.ShiftEV)
 		}
 	} else {
 		fmt.Fprintln(tw, "REF\tNAME\tKIND\tELEMENT\tSTATE\tENERGY eV\tSCORE")
 		for _, h := range hits {
-			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%.0f-%.0f\t%.3f\n", h.Ref, h.Name, h.Kind, h.Element, h.State, h.EnergyLo, h.EnergyHi, h.Score)
+			fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%.0f-%.0f\t%.3f\n", h.Ref, h.Name, h.Kind, dash(h.Element), dash(h.State), h.EnergyLo, h.EnergyHi, h.Score)
 		}
 	}
 	if err := tw.Flush(); err != nil {
