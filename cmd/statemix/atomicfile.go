@@ -2,8 +2,10 @@ package main
 
 import (
 	"bufio"
+	"errors"
 	"fmt"
 	"io"
+	"io/fs"
 	"os"
 	"path/filepath"
 )
@@ -20,7 +22,16 @@ func writeFileAtomically(path string, fill func(io.Writer) error) (err error) {
 	}
 	tmp, err := os.CreateTemp(dir, "."+base+".tmp-*")
 	if err != nil {
-		return err
+		// Say what is wrong with the folder, not which temporary name
+		// could not be created.
+		if errors.Is(err, fs.ErrNotExist) {
+			return fmt.Errorf("folder %s does not exist", filepath.Clean(dir))
+		}
+		var pe *fs.PathError
+		if errors.As(err, &pe) {
+			err = pe.Err
+		}
+		return fmt.Errorf("cannot create a file in folder %s: %w", filepath.Clean(dir), err)
 	}
 	renamed := false
 	defer func() {

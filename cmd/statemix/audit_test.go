@@ -251,3 +251,16 @@ func TestSearchTableBlankState(t *testing.T) {
 		}
 	}
 }
+
+// Writing into a folder that does not exist names the folder, not the
+// temporary file the atomic write could not create.
+func TestWriteMissingFolder(t *testing.T) {
+	_, metal, oxide, unknown := fitFixture(t)
+	gone := filepath.Join(t.TempDir(), "no", "such")
+	code, _, stderr := runApp(t, nil, "fit", unknown, "--ref-file", metal, "--ref-file", oxide+":oxide",
+		"--uncertainty", "covariance", "--report", filepath.Join(gone, "fit.html"))
+	want := "--report " + filepath.Join(gone, "fit.html") + ": folder " + gone + " does not exist"
+	if code != exitFailure || !strings.Contains(stderr, want) || strings.Contains(stderr, ".tmp") {
+		t.Errorf("exit %d, stderr %q; want exit 1 and %q", code, stderr, want)
+	}
+}
