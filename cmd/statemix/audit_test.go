@@ -1,10 +1,13 @@
 package main
 
 import (
+	"os"
 	"path/filepath"
 	"regexp"
 	"strings"
 	"testing"
+
+	"statemix/lineshape/format/npy"
 )
 
 // Exit statuses and messages for command-line mistakes and bad input that
@@ -262,5 +265,18 @@ func TestWriteMissingFolder(t *testing.T) {
 	want := "--report " + filepath.Join(gone, "fit.html") + ": folder " + gone + " does not exist"
 	if code != exitFailure || !strings.Contains(stderr, want) || strings.Contains(stderr, ".tmp") {
 		t.Errorf("exit %d, stderr %q; want exit 1 and %q", code, stderr, want)
+	}
+}
+
+// A .npy cube without its sidecar is bad input that names the sidecar and
+// shows what goes in it (it was "open X.json: no such file", exit 1).
+func TestMapMissingSidecar(t *testing.T) {
+	cube, refArgs := mapFixture(t, "")
+	if err := os.Remove(npy.SidecarPath(cube)); err != nil {
+		t.Fatal(err)
+	}
+	code, _, stderr := runApp(t, nil, append([]string{"map", cube, "--out", filepath.Join(t.TempDir(), "m")}, refArgs...)...)
+	if code != exitBadInput || !strings.Contains(stderr, "no sidecar "+npy.SidecarPath(cube)) || !strings.Contains(stderr, `"step_ev"`) {
+		t.Errorf("exit %d, stderr %q; want exit 3 naming the sidecar", code, stderr)
 	}
 }

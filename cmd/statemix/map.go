@@ -25,6 +25,7 @@ import (
 	"statemix/lineshape"
 	"statemix/lineshape/fit"
 	"statemix/lineshape/format"
+	"statemix/lineshape/format/npy"
 	"statemix/lineshape/series"
 )
 
@@ -82,6 +83,10 @@ func openMapCube(path string) (series.Cube, io.Closer, error) {
 	n, _ := io.ReadFull(f, head)
 	f.Close()
 	if format.Detect(head[:n]) == format.KindNPY {
+		if sc := npy.SidecarPath(path); !fileExists(sc) {
+			return nil, nil, badInputf("%s: no sidecar %s: a .npy spectrum image needs one beside it, such as "+
+				`{"start_ev": 1330, "step_ev": 0.5, "mode": "derivative", "pixel_um": 2}`, path, sc)
+		}
 		c, err := series.OpenNPY(path)
 		if err != nil {
 			return nil, nil, err
@@ -94,6 +99,12 @@ func openMapCube(path string) (series.Cube, io.Closer, error) {
 	}
 	c, err := series.CubeFromSpectra(specs, path)
 	return c, nil, err
+}
+
+// fileExists reports whether path names an existing file or folder.
+func fileExists(path string) bool {
+	_, err := os.Stat(path)
+	return err == nil
 }
 
 func runMap(app *App, opts *mapOptions) error {
