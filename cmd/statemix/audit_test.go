@@ -280,3 +280,23 @@ func TestMapMissingSidecar(t *testing.T) {
 		t.Errorf("exit %d, stderr %q; want exit 3 naming the sidecar", code, stderr)
 	}
 }
+
+// --atomic with a --ref-file reference that lacks its element or compound
+// says where they come from; library edit cannot change a file.
+func TestAtomicRefFileAdvice(t *testing.T) {
+	dir, metal, _, unknown := fitFixture(t)
+	bare := filepath.Join(dir, "bare.json")
+	writeSpectrumJSON(t, bare, 350, 450, oxideShape, nil) // no element, no compound
+	noCompound := filepath.Join(dir, "nocompound.json")
+	writeSpectrumJSON(t, noCompound, 350, 450, oxideShape, map[string]string{"element": "Ti"})
+	for _, c := range []struct{ file, want string }{
+		{bare, "names no element: a --ref-file reference takes them from the file"},
+		{noCompound, "has no compound: a --ref-file reference takes them from the file"},
+	} {
+		code, _, stderr := runApp(t, nil, "fit", unknown, "--ref-file", metal, "--ref-file", c.file+":oxide",
+			"--uncertainty", "covariance", "--atomic")
+		if code != exitBadInput || !strings.Contains(stderr, c.want) || strings.Contains(stderr, "library edit") {
+			t.Errorf("%s: exit %d, stderr %q; want exit 3 and %q", filepath.Base(c.file), code, stderr, c.want)
+		}
+	}
+}

@@ -77,7 +77,7 @@ func newQuantifier(opts *fitOptions, comps []fit.Component, window [2]float64) (
 		q.formula = make([]string, len(comps))
 		for i, c := range comps {
 			if c.Element == "" {
-				return nil, badInputf("--atomic: reference %s names no element", label(c))
+				return nil, badInputf("--atomic: reference %s names no element%s", label(c), fromFileAdvice(opts, c))
 			}
 			m, err := compoundOf(opts, c)
 			if err != nil {
@@ -176,6 +176,8 @@ func compoundOf(opts *fitOptions, c fit.Component) (quant.Material, error) {
 	if formula == "" {
 		if c.State == "metal" && c.Element != "" {
 			formula = c.Element
+		} else if advice := fromFileAdvice(opts, c); advice != "" {
+			return quant.Material{}, badInputf("reference %s (%s) has no compound%s", label(c), c.State, advice)
 		} else {
 			return quant.Material{}, badInputf("reference %s (%s) has no compound: set it (statemix library edit REF --set compound=FORMULA)", label(c), c.State)
 		}
@@ -185,6 +187,17 @@ func compoundOf(opts *fitOptions, c fit.Component) (quant.Material, error) {
 		return m, badInputf("reference %s: %v", label(c), err)
 	}
 	return m, nil
+}
+
+// fromFileAdvice says, for a reference read with --ref-file, where its
+// element and compound come from (library edit cannot change a file), and
+// is "" for a library reference.
+func fromFileAdvice(opts *fitOptions, c fit.Component) string {
+	if _, ok := opts.refExtra[c.Ref]; !ok {
+		return ""
+	}
+	return ": a --ref-file reference takes them from the file (a library entry file or statemix spectrum JSON with element and compound); " +
+		"or add it to the library with statemix library add FILE --element EL --compound FORMULA ... and fit with --refs"
 }
 
 func label(c fit.Component) string {
