@@ -49,6 +49,9 @@ func TestCLIMistakes(t *testing.T) {
 		// --element is checked as library add checks it.
 		{"fit element helium", fit("--element", "He"), exitUsage, []string{"--element He", "no Auger transition"}},
 		{"fit element unknown", fit("--element", "Xx"), exitUsage, []string{"--element Xx", `"Xx"`}},
+		// A bundle is a gzipped tar: export refuses a name that says otherwise.
+		{"export zip name", []string{"--library", lib, "library", "export", filepath.Join(t.TempDir(), "refs.zip")}, exitUsage,
+			[]string{"refs.zip", ".tar.gz"}},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {

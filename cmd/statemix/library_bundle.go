@@ -58,6 +58,11 @@ type exportedJSON struct {
 }
 
 func runLibraryExport(app *App, o *libraryExportOptions) error {
+	if l := strings.ToLower(o.File); !strings.HasSuffix(l, ".tar.gz") && !strings.HasSuffix(l, ".tgz") {
+		// A bundle is a gzipped tar whatever its name; a name that says
+		// otherwise (x.zip, x.json) misleads whoever receives it.
+		return usageErrorf("library export %s: want a .tar.gz (or .tgz) file name: a bundle is a gzipped tar archive", o.File)
+	}
 	f, err := library.ParseFilter(o.Query)
 	if err != nil {
 		return usageErrorf("library export: --query: %v", err)
