@@ -7,6 +7,8 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/spf13/cobra"
+
 	"statemix/lineshape/format/npy"
 )
 
@@ -302,4 +304,27 @@ func TestAtomicRefFileAdvice(t *testing.T) {
 			t.Errorf("%s: exit %d, stderr %q; want exit 3 and %q", filepath.Base(c.file), code, stderr, c.want)
 		}
 	}
+}
+
+// Every flag that takes a value names it in --help as DESIGN.md does
+// (--energy EV, --shift MODE, --library DIR), never with pflag's type name
+// ("--energy float", "--shift string").
+func TestHelpValuePlaceholders(t *testing.T) {
+	app := &App{In: strings.NewReader(""), Out: &strings.Builder{}, Err: &strings.Builder{}, Getenv: func(string) string { return "" }}
+	root := newRootCmd(app)
+	typeNames := regexp.MustCompile(`--[a-z0-9-]+ (string|float|int|uint|strings|stringArray|float64|uint64|duration)\s`)
+	var walk func(c *cobra.Command)
+	walk = func(c *cobra.Command) {
+		if c.Name() == "completion" || c.Name() == "help" {
+			return
+		}
+		usage := c.LocalFlags().FlagUsages() + c.InheritedFlags().FlagUsages()
+		for _, m := range typeNames.FindAllString(usage, -1) {
+			t.Errorf("%s --help: %q shows a type name instead of what the value is", c.CommandPath(), strings.TrimSpace(m))
+		}
+		for _, sub := range c.Commands() {
+			walk(sub)
+		}
+	}
+	walk(root)
 }

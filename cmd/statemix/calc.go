@@ -95,13 +95,13 @@ atomic-fraction and overlayer formulas.`,
 		},
 	}
 	f := cmd.Flags()
-	f.StringVar(&o.Formula, "formula", "", "chemical formula of the material (Al, SiO2, Al2O3, TiN, ...)")
-	f.Float64Var(&o.Density, "density", 0, "density in g/cm3 (default from the built-in table)")
-	f.Float64Var(&o.Valence, "valence", 0, "valence electrons per formula unit, TPP-2M convention (default from the built-in table)")
-	f.Float64Var(&o.Gap, "gap", 0, "band gap in eV, 0 for metals (default from the built-in table)")
-	f.Float64Var(&o.Energy, "energy", 0, "electron kinetic energy in eV")
-	f.StringVar(&o.Method, "method", "tpp2m", "tpp2m (IMFP) or seah-dench (attenuation length)")
-	f.StringVar(&o.Element, "element", "", "also report the atomic density of this element in the material")
+	f.StringVar(&o.Formula, "formula", "", "chemical formula `F` of the material (Al, SiO2, Al2O3, TiN, ...)")
+	f.Float64Var(&o.Density, "density", 0, "density `G_CM3` in g/cm3 (default from the built-in table)")
+	f.Float64Var(&o.Valence, "valence", 0, "`N` valence electrons per formula unit, TPP-2M convention (default from the built-in table)")
+	f.Float64Var(&o.Gap, "gap", 0, "band gap `EV` in eV, 0 for metals (default from the built-in table)")
+	f.Float64Var(&o.Energy, "energy", 0, "electron kinetic energy `EV` in eV")
+	f.StringVar(&o.Method, "method", "tpp2m", "`METHOD`: tpp2m (IMFP) or seah-dench (attenuation length)")
+	f.StringVar(&o.Element, "element", "", "also report the atomic density of element `EL` in the material")
 	_ = cmd.RegisterFlagCompletionFunc("method", cobra.FixedCompletions([]string{"tpp2m", "seah-dench"}, cobra.ShellCompDirectiveNoFileComp))
 	_ = cmd.RegisterFlagCompletionFunc("formula", cobra.FixedCompletions(quant.BuiltinFormulas(), cobra.ShellCompDirectiveNoFileComp))
 	return cmd
@@ -285,13 +285,13 @@ gets a first-order standard deviation.`,
 		},
 	}
 	f := cmd.Flags()
-	f.Float64Var(&o.Ratio, "ratio", 0, "intensity ratio I_overlayer / I_substrate")
-	f.Float64Var(&o.RatioSD, "ratio-sd", 0, "standard deviation of the ratio (default 0: unknown)")
-	f.Float64Var(&o.NOverlayer, "n-overlayer", 0, "atoms of the element per cm3 in the overlayer")
-	f.Float64Var(&o.NSubstrate, "n-substrate", 0, "atoms of the element per cm3 in the substrate")
-	f.Float64Var(&o.LambdaOverlayer, "lambda-overlayer", 0, "IMFP in the overlayer, nm")
-	f.Float64Var(&o.LambdaSubstrate, "lambda-substrate", 0, "IMFP in the substrate, nm")
-	f.Float64Var(&o.TakeOff, "take-off", 90, "take-off angle in degrees from the surface")
+	f.Float64Var(&o.Ratio, "ratio", 0, "intensity ratio `R` = I_overlayer / I_substrate")
+	f.Float64Var(&o.RatioSD, "ratio-sd", 0, "standard deviation `SD` of the ratio (default 0: unknown)")
+	f.Float64Var(&o.NOverlayer, "n-overlayer", 0, "`N` atoms of the element per cm3 in the overlayer")
+	f.Float64Var(&o.NSubstrate, "n-substrate", 0, "`N` atoms of the element per cm3 in the substrate")
+	f.Float64Var(&o.LambdaOverlayer, "lambda-overlayer", 0, "IMFP `NM` in the overlayer, nm")
+	f.Float64Var(&o.LambdaSubstrate, "lambda-substrate", 0, "IMFP `NM` in the substrate, nm")
+	f.Float64Var(&o.TakeOff, "take-off", 90, "take-off angle `DEG` in degrees from the surface")
 	return cmd
 }
 

@@ -166,10 +166,10 @@ func registerModelFlags(app *App, cmd *cobra.Command, opts *fitOptions, m modelF
 	f.StringVar(&opts.Element, "element", "", "use every library reference of element `EL` (with --refs: check they are of EL)")
 	f.Float64Var(&opts.Modulation, "modulation", 0, "peak-to-peak modulation in `EV` for lock-in emulation (default the recorded one)")
 	f.StringVar(&opts.Window, "window", "", "fit window `LO:HI` in eV (default the overlap of "+m.Overlap+" and references less the maximum shift)")
-	f.StringVar(&opts.Shift, "shift", "common", "energy shifts: none, common or each")
+	f.StringVar(&opts.Shift, "shift", "common", "energy shifts `MODE`: none, common or each")
 	f.Float64Var(&opts.MaxShift, "max-shift", 3, "largest shift in `EV`")
 	f.IntVar(&opts.Background, "background", 1, "degree `DEG` of the polynomial background (-1 for none)")
-	f.StringVar(&opts.Normalize, "normalize", "none", "scale references first: none, peak-to-peak or area (changes what a fraction means)")
+	f.StringVar(&opts.Normalize, "normalize", "none", "scale references first by `MODE`: none, peak-to-peak or area (changes what a fraction means)")
 	opts.Uncertainty, opts.Samples, opts.Seed = "covariance", 300, 1
 	enum := func(name string, vals ...string) {
 		_ = cmd.RegisterFlagCompletionFunc(name, cobra.FixedCompletions(vals, cobra.ShellCompDirectiveNoFileComp))
@@ -179,7 +179,7 @@ func registerModelFlags(app *App, cmd *cobra.Command, opts *fitOptions, m modelF
 		if m.PerSpectrum {
 			samples += " per spectrum"
 		}
-		f.StringVar(&opts.Uncertainty, "uncertainty", m.Uncertainty, "uncertainty method: covariance or bootstrap")
+		f.StringVar(&opts.Uncertainty, "uncertainty", m.Uncertainty, "uncertainty `METHOD`: covariance or bootstrap")
 		f.IntVar(&opts.Samples, "samples", 300, samples)
 		f.Uint64Var(&opts.Seed, "seed", 1, "bootstrap seed `N` (same seed, same result)")
 		enum("uncertainty", "covariance", "bootstrap")

@@ -33,7 +33,7 @@ Start with statemix demo, which runs the whole workflow on invented data.`,
 	}
 	root.SetFlagErrorFunc(flagUsage)
 	pf := root.PersistentFlags()
-	pf.StringVar(&app.LibraryFlag, "library", "", "library folder (default $STATEMIX_LIBRARY, $XDG_DATA_HOME/statemix or ~/.local/share/statemix)")
+	pf.StringVar(&app.LibraryFlag, "library", "", "library folder `DIR` (default $STATEMIX_LIBRARY, $XDG_DATA_HOME/statemix or ~/.local/share/statemix)")
 	pf.BoolVar(&app.JSON, "json", false, "machine-readable JSON on stdout")
 	pf.BoolVar(&app.Quiet, "quiet", false, "print only results and warnings")
 	pf.BoolVar(&app.NoProgress, "no-progress", false, "never show progress bars")
