@@ -54,6 +54,8 @@ func TestCLIMistakes(t *testing.T) {
 		// A bundle is a gzipped tar: export refuses a name that says otherwise.
 		{"export zip name", []string{"--library", lib, "library", "export", filepath.Join(t.TempDir(), "refs.zip")}, exitUsage,
 			[]string{"refs.zip", ".tar.gz"}},
+		// --top 0 gave the default 10 hits without a word.
+		{"search top 0", []string{"--library", lib, "search", "element:Ti", "--top", "0"}, exitUsage, []string{"--top 0", "positive"}},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {

@@ -62,7 +62,7 @@ at higher energy). A QUERY given with --like restricts the candidates.`,
 			if o.Block < 0 {
 				return usageErrorf("search: --block %d: blocks count from 1", o.Block)
 			}
-			if o.Top < 0 {
+			if o.Top < 1 {
 				return usageErrorf("search: --top %d: need a positive number", o.Top)
 			}
 			if o.Block > 0 && o.Like == "" {
