@@ -330,3 +330,20 @@ func TestHelpValuePlaceholders(t *testing.T) {
 	}
 	walk(root)
 }
+
+// library list --element takes the symbol in any case, as fit --element
+// does ("ti" listed nothing), and refuses a symbol that is no element.
+func TestLibraryListElement(t *testing.T) {
+	_, metal, _, _ := fitFixture(t)
+	dir := t.TempDir()
+	mustCLI(t, dir, "library", "init")
+	mustCLI(t, dir, "library", "add", metal, "--element", "Ti", "--transition", "L3M23M23", "--state", "metal", "--name", "Ti foil")
+	for _, el := range []string{"Ti", "ti", "TI"} {
+		if out := mustCLI(t, dir, "library", "list", "--element", el); !strings.Contains(out, "Ti foil") {
+			t.Errorf("--element %s: %q lacks Ti foil", el, out)
+		}
+	}
+	if code, _, stderr := libCLI(t, dir, "library", "list", "--element", "Zz"); code != exitUsage || !strings.Contains(stderr, `"Zz"`) {
+		t.Errorf("--element Zz: exit %d, stderr %q; want exit 2", code, stderr)
+	}
+}

@@ -16,6 +16,7 @@ import (
 	"statemix/cmd/statemix/render"
 	"statemix/library"
 	"statemix/lineshape"
+	"statemix/lineshape/quant"
 )
 
 // libraryListOptions holds the flag values of library list.
@@ -44,6 +45,14 @@ named in warnings; the rest are listed.`,
 					return usageErrorf("library list: --state: %v", err)
 				}
 				o.State = s
+			}
+			if o.Element != "" {
+				// Symbols match as IUPAC spells them; take "ti" as "Ti", as
+				// fit --element does, and say so when there is no such element.
+				o.Element = canonicalSymbol(o.Element)
+				if err := quant.CheckAugerElement(o.Element); err != nil {
+					return usageErrorf("library list: --element: %v", err)
+				}
 			}
 			return runLibraryList(app, o)
 		},
