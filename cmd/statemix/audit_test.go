@@ -1,6 +1,7 @@
 package main
 
 import (
+	"encoding/json"
 	"os"
 	"path/filepath"
 	"regexp"
@@ -345,5 +346,30 @@ func TestLibraryListElement(t *testing.T) {
 	}
 	if code, _, stderr := libCLI(t, dir, "library", "list", "--element", "Zz"); code != exitUsage || !strings.Contains(stderr, `"Zz"`) {
 		t.Errorf("--element Zz: exit %d, stderr %q; want exit 2", code, stderr)
+	}
+}
+
+// Removing a reference that archived fits used warns, naming them.
+func TestRemoveReferenceUsedByRuns(t *testing.T) {
+	_, metal, oxide, unknown := fitFixture(t)
+	dir := t.TempDir()
+	mustCLI(t, dir, "library", "init")
+	mustCLI(t, dir, "library", "add", metal, "--element", "Ti", "--transition", "L3M23M23", "--state", "metal", "--name", "Ti foil")
+	mustCLI(t, dir, "library", "add", oxide, "--element", "Ti", "--transition", "L3M23M23", "--state", "oxide", "--name", "TiO2 film")
+	var saved struct{ Saved string }
+	out := mustCLI(t, dir, "--json", "fit", unknown, "--refs", "Ti foil,TiO2 film", "--uncertainty", "covariance", "--save")
+	if err := json.Unmarshal([]byte(out), &saved); err != nil || saved.Saved == "" {
+		t.Fatalf("--save: %v %q", err, out)
+	}
+	code, _, stderr := libCLI(t, dir, "library", "remove", "Ti foil")
+	if code != 0 || !strings.Contains(stderr, "1 archived measurement was fitted with Ti foil ("+saved.Saved+")") {
+		t.Errorf("remove: exit %d, stderr %q; want a warning naming %s", code, stderr, saved.Saved)
+	}
+	// A reference no fit used goes without a warning.
+	other := filepath.Join(t.TempDir(), "other.json")
+	writeSpectrumJSON(t, other, 350, 450, func(e float64) float64 { return metalShape(e - 7) }, nil)
+	mustCLI(t, dir, "library", "add", other, "--element", "Ti", "--transition", "L3M23M23", "--state", "carbide", "--name", "Ti foil 2")
+	if code, _, stderr := libCLI(t, dir, "library", "remove", "Ti foil 2"); code != 0 || stderr != "" {
+		t.Errorf("remove unused: exit %d, stderr %q", code, stderr)
 	}
 }

@@ -1,6 +1,7 @@
 package main
 
 import (
+	"encoding/json"
 	"fmt"
 	"strings"
 
@@ -147,9 +148,44 @@ func runLibraryRemove(app *App, o *libraryRemoveOptions) error {
 		return libraryError(fmt.Errorf("library remove: %w", err))
 	}
 	app.afterLibraryWrite(st)
+	if runs := runsFittedWith(st, e.ID); len(runs) > 0 {
+		app.Warn(fmt.Sprintf("%d archived %s fitted with %s (%s): %s %s, which is no longer in the library",
+			len(runs), plural(len(runs), "measurement was", "measurements were"), e.Name, strings.Join(runs, ", "),
+			plural(len(runs), "its stored fit still names", "their stored fits still name"), e.ID))
+	}
 	if app.JSON {
 		return writeJSON(app.Out, changedJSON{Schema: "statemix.removed/v1", Ref: e.ID, Name: e.Name, Revision: st.Revision()})
 	}
 	fmt.Fprintf(app.Out, "removed %s (%s)\n", e.ID, e.Name)
 	return nil
+}
+
+// runsFittedWith returns the ids of the archived measurements (fit --save)
+// whose stored fit has a component of reference id.
+func runsFittedWith(st *library.Store, id string) []string {
+	es, err := st.Entries()
+	if err != nil {
+		return nil
+	}
+	var out []string
+	for _, m := range es {
+		if m.Kind != library.KindMeasurement || len(m.Fit) == 0 {
+			continue
+		}
+		var f struct {
+			Components []struct {
+				Ref string `json:"ref"`
+			} `json:"components"`
+		}
+		if json.Unmarshal(m.Fit, &f) != nil {
+			continue
+		}
+		for _, c := range f.Components {
+			if c.Ref == id {
+				out = append(out, m.ID)
+				break
+			}
+		}
+	}
+	return out
 }
