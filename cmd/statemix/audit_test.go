@@ -57,6 +57,12 @@ func TestCLIMistakes(t *testing.T) {
 			[]string{"refs.zip", ".tar.gz"}},
 		// --top 0 gave the default 10 hits without a word.
 		{"search top 0", []string{"--library", lib, "search", "element:Ti", "--top", "0"}, exitUsage, []string{"--top 0", "positive"}},
+		// --block 0 is not "the only block": blocks count from 1.
+		{"fit block 0", fit("--block", "0"), exitUsage, []string{"--block 0", "count from 1"}},
+		{"search block 0", []string{"--library", lib, "search", "--like", tiVMS, "--block", "0"}, exitUsage, []string{"--block 0"}},
+		{"convert block 0", []string{"convert", tiVMS, "--block", "0"}, exitUsage, []string{"--block 0"}},
+		{"library add block 0", []string{"--library", lib, "library", "add", tiVMS, "--block", "0", "--element", "Ti",
+			"--transition", "LMM", "--state", "metal"}, exitUsage, []string{"--block 0"}},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {

@@ -30,6 +30,14 @@ Start with statemix demo, which runs the whole workflow on invented data.`,
   statemix map area7.npy --refs "Ti foil","TiN film" --out area7-maps`,
 		SilenceUsage:  true,
 		SilenceErrors: true,
+		// Every --block counts from 1; 0 is the flag's "not given", so an
+		// explicit --block 0 would otherwise mean "the only block".
+		PersistentPreRunE: func(cmd *cobra.Command, args []string) error {
+			if f := cmd.Flags().Lookup("block"); f != nil && f.Changed && f.Value.String() == "0" {
+				return usageErrorf("--block 0: blocks count from 1")
+			}
+			return nil
+		},
 	}
 	root.SetFlagErrorFunc(flagUsage)
 	pf := root.PersistentFlags()
