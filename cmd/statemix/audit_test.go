@@ -379,3 +379,42 @@ func TestRemoveReferenceUsedByRuns(t *testing.T) {
 		t.Errorf("remove unused: exit %d, stderr %q", code, stderr)
 	}
 }
+
+// The profile tables print each column to one number of decimals, so that
+// the column lines up and 1.9 does not stand beside 2.01 (they printed
+// depth 0.48 / 2.4 / 6, chi-square 1.9 / 2.01, interface depth 5.739 beside
+// width 2.17).
+func TestProfileTableDecimals(t *testing.T) {
+	dir, refArgs := profileFixture(t, nil)
+	code, out, stderr := runApp(t, nil, append([]string{"profile", dir, "--sputter-rate", "2.4"}, refArgs...)...)
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	twoDecimals := regexp.MustCompile(`^-?\d+\.\d\d$`)
+	oneDecimal := regexp.MustCompile(`^-?\d+\.\d$`)
+	table := ""
+	for _, line := range strings.Split(out, "\n") {
+		cols := regexp.MustCompile(`\s{2,}`).Split(strings.TrimSpace(line), -1)
+		switch {
+		case strings.HasPrefix(line, "step "):
+			table = "steps"
+		case strings.HasPrefix(line, "state "):
+			table = "interfaces"
+		case line == "" || strings.HasPrefix(line, "---") || strings.HasPrefix(line, "interfaces"):
+		case table == "steps":
+			// step, time, depth, fractions..., shift, chi2
+			if !twoDecimals.MatchString(cols[2]) || !twoDecimals.MatchString(cols[len(cols)-1]) {
+				t.Errorf("step row %q: depth %q and chi2 %q want two decimals", line, cols[2], cols[len(cols)-1])
+			}
+		case table == "interfaces":
+			// state, direction, position, width, depth, width
+			if len(cols) != 6 || !oneDecimal.MatchString(cols[2]) || !oneDecimal.MatchString(cols[3]) ||
+				!twoDecimals.MatchString(cols[4]) || !twoDecimals.MatchString(cols[5]) {
+				t.Errorf("interface row %q: want position and width in s to 1 decimal, depth and width in nm to 2", line)
+			}
+		}
+	}
+	if table != "interfaces" {
+		t.Fatalf("no interface table in\n%s", out)
+	}
+}

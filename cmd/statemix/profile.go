@@ -275,12 +275,12 @@ func profileTable(res *series.ProfileResult, depth bool, pq *profileQuant) *rend
 	for i, s := range res.Steps {
 		row := []string{strconv.Itoa(s.Index), fmtNum(s.SputterTimeS, "%.4g")}
 		if depth {
-			row = append(row, fmtNum(s.DepthNM, "%.4g"))
+			row = append(row, fmtNum(s.DepthNM, "%.2f"))
 		}
 		for _, c := range s.Result.Components {
 			row = append(row, render.FractionText(c, true))
 		}
-		row = append(row, fmtNum(s.Result.Components[0].Shift, "%+.2f"), fmtNum(s.Result.Quality.Chi2Reduced, "%.3g"))
+		row = append(row, fmtNum(s.Result.Components[0].Shift, "%+.2f"), fmtNum(s.Result.Quality.Chi2Reduced, "%.2f"))
 		if pq != nil {
 			row = append(row, quantCells(pq, i, len(s.Result.Components))...)
 		}
@@ -308,9 +308,9 @@ func quantCells(pq *profileQuant, i, k int) []string {
 		case ov.ThicknessNM == nil:
 			row = append(row, "-")
 		case ov.SDNM == nil:
-			row = append(row, fmt.Sprintf("%.3g", *ov.ThicknessNM))
+			row = append(row, strings.TrimSuffix(thicknessText(*ov.ThicknessNM, 0), " nm"))
 		default:
-			row = append(row, fmt.Sprintf("%.3g ± %.2g", *ov.ThicknessNM, *ov.SDNM))
+			row = append(row, strings.TrimSuffix(thicknessText(*ov.ThicknessNM, *ov.SDNM), " nm"))
 		}
 	}
 	return row
@@ -327,9 +327,9 @@ func interfaceTable(res *series.ProfileResult, depth bool) *render.Table {
 		if x.Rising {
 			dir = "rises"
 		}
-		row := []string{x.State, dir, fmtNum(x.PositionS, "%.4g"), fmtNum(x.WidthS, "%.3g")}
+		row := []string{x.State, dir, fmtNum(x.PositionS, "%.1f"), fmtNum(x.WidthS, "%.1f")}
 		if depth {
-			row = append(row, fmtNum(x.DepthNM, "%.4g"), fmtNum(x.WidthNM, "%.3g"))
+			row = append(row, fmtNum(x.DepthNM, "%.2f"), fmtNum(x.WidthNM, "%.2f"))
 		}
 		t.Rows = append(t.Rows, row)
 	}
