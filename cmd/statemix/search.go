@@ -33,10 +33,9 @@ func newSearchCmd(app *App) *cobra.Command {
 
 A field clause (field:value) must match unless it starts with + or -
 (- excludes); free words and quoted phrases without a field only rank the
-matches. Keyword fields match whole
-values case-insensitively, text fields match words, numeric fields take
->, >=, <, <= and dates quoted RFC 3339 times. Without a query (or with
---fields) it lists the fields.
+matches. Keyword fields match whole values case-insensitively, text fields
+match words, numeric fields take >, >=, <, <= and dates quoted RFC 3339
+times. Without a query (or with --fields) it lists the fields.
 
 With --like FILE it ranks entries by spectral similarity to the spectrum in
 FILE: the maximum normalised correlation over energy shifts within +/-5 eV
