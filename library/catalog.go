@@ -14,6 +14,8 @@ import (
 	"strconv"
 	"strings"
 	"unicode/utf8"
+
+	"statemix/lineshape"
 )
 
 // The catalogue is derived data kept beside the manifest so that writers
@@ -215,8 +217,7 @@ func dupCandidate(e, x *catRow) bool {
 		x.Mode != e.Mode || !x.HasFeature || !e.HasFeature {
 		return false
 	}
-	st := math.Max(e.step(), x.step())
-	if math.Abs(e.Feature-x.Feature) > 2*st*(1+1e-9) {
+	if math.Abs(e.Feature-x.Feature) > dupFeatureTol(e.Mode == lineshape.Direct.String(), e.step(), x.step())*(1+1e-9) {
 		return false
 	}
 	return math.Max(e.Lo, x.Lo) < math.Min(e.Hi, x.Hi)
