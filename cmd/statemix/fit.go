@@ -20,6 +20,7 @@ import (
 	"golang.org/x/term"
 
 	"statemix/cmd/statemix/render"
+	"statemix/internal/atomicfile"
 	"statemix/library"
 	"statemix/lineshape"
 	"statemix/lineshape/fit"
@@ -736,7 +737,7 @@ func writeReport(app *App, opts *fitOptions, res *fit.Result, extra []render.Sec
 	info := render.ReportInfo{InputFile: opts.File, InputSHA256: opts.inputSHA256, Block: opts.Block - 1,
 		Settings: settings, LibraryDir: opts.libDir, LibraryRevision: int64(opts.libRevision),
 		Version: Version, Generated: app.Now(), Command: opts.command, Extra: extra}
-	err := writeFileAtomically(opts.Report, func(w io.Writer) error { return render.FitReport(w, res, info) })
+	err := atomicfile.WriteFile(opts.Report, func(w io.Writer) error { return render.FitReport(w, res, info) })
 	if err != nil {
 		return fmt.Errorf("--report %s: %w", opts.Report, err)
 	}

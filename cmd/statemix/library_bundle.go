@@ -9,6 +9,7 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"statemix/internal/atomicfile"
 	"statemix/library"
 )
 
@@ -72,7 +73,7 @@ func runLibraryExport(app *App, o *libraryExportOptions) error {
 		return err
 	}
 	var res *library.ExportResult
-	err = writeFileAtomically(o.File, func(w io.Writer) error {
+	err = atomicfile.WriteFile(o.File, func(w io.Writer) error {
 		var err error
 		res, err = st.Export(w, library.ExportOptions{Match: f.Match, Query: o.Query})
 		return err

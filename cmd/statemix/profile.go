@@ -19,6 +19,7 @@ import (
 	"gonum.org/v1/plot/vg/draw"
 
 	"statemix/cmd/statemix/render"
+	"statemix/internal/atomicfile"
 	"statemix/lineshape/fit"
 	"statemix/lineshape/series"
 )
@@ -119,7 +120,7 @@ func runProfile(app *App, opts *profileOptions) error {
 	}
 	doc := buildProfileDocument(opts, res, pq)
 	if opts.CSV != "" {
-		if err := writeFileAtomically(opts.CSV, func(w io.Writer) error { return writeProfileCSV(w, res, pq) }); err != nil {
+		if err := atomicfile.WriteFile(opts.CSV, func(w io.Writer) error { return writeProfileCSV(w, res, pq) }); err != nil {
 			return fmt.Errorf("--csv %s: %w", opts.CSV, err)
 		}
 	}
@@ -129,7 +130,7 @@ func runProfile(app *App, opts *profileOptions) error {
 		}
 	}
 	if opts.Report != "" {
-		if err := writeFileAtomically(opts.Report, func(w io.Writer) error { return profilePage(app, opts, res, pq).Write(w) }); err != nil {
+		if err := atomicfile.WriteFile(opts.Report, func(w io.Writer) error { return profilePage(app, opts, res, pq).Write(w) }); err != nil {
 			return fmt.Errorf("--report %s: %w", opts.Report, err)
 		}
 	}

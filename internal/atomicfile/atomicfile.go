@@ -5,8 +5,10 @@ package atomicfile
 
 import (
 	"bufio"
+	"errors"
 	"fmt"
 	"io"
+	"io/fs"
 	"os"
 	"path/filepath"
 )
@@ -14,21 +16,26 @@ import (
 // WriteFile writes path through fill: into a temporary file in the same
 // folder (named ".<base>.tmp-*", so a leftover is recognisable), buffered,
 // flushed and fsynced, then renamed over path, and the folder is fsynced
-// so that the rename survives a crash. The new file keeps the permissions
-// of the file it replaces, or gets 0644. If anything fails, the temporary
-// file is removed and path is left as it was.
+// so that the rename survives a crash. The file is made readable by all
+// (0644), whatever the file it replaces had. If anything fails, the
+// temporary file is removed and path is left as it was. A folder that does
+// not exist or cannot be written is named in the error, not the temporary
+// file that could not be created.
 func WriteFile(path string, fill func(io.Writer) error) (err error) {
 	dir, base := filepath.Split(path)
 	if dir == "" {
 		dir = "."
 	}
-	perm := os.FileMode(0o644) // CreateTemp makes 0600
-	if fi, serr := os.Stat(path); serr == nil {
-		perm = fi.Mode().Perm()
-	}
 	tmp, err := os.CreateTemp(dir, "."+base+".tmp-*")
 	if err != nil {
-		return err
+		if errors.Is(err, fs.ErrNotExist) {
+			return fmt.Errorf("folder %s does not exist: %w", filepath.Clean(dir), fs.ErrNotExist)
+		}
+		var pe *fs.PathError
+		if errors.As(err, &pe) {
+			err = pe.Err
+		}
+		return fmt.Errorf("cannot create a file in folder %s: %w", filepath.Clean(dir), err)
 	}
 	renamed := false
 	defer func() {
@@ -44,7 +51,7 @@ func WriteFile(path string, fill func(io.Writer) error) (err error) {
 	if err := w.Flush(); err != nil {
 		return err
 	}
-	if err := tmp.Chmod(perm); err != nil {
+	if err := tmp.Chmod(0o644); err != nil { // CreateTemp makes 0600
 		return err
 	}
 	if err := tmp.Sync(); err != nil {

@@ -6,6 +6,7 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"strings"
 	"testing"
 )
 
@@ -22,7 +23,7 @@ func TestWriteFile(t *testing.T) {
 	if fi.Mode().Perm() != 0o644 {
 		t.Errorf("new file mode %v, want 0644", fi.Mode().Perm())
 	}
-	// A replaced file keeps its mode.
+	// A replaced file is made readable by all like a new one.
 	if err := os.Chmod(path, 0o600); err != nil {
 		t.Fatal(err)
 	}
@@ -32,8 +33,8 @@ func TestWriteFile(t *testing.T) {
 	if b, _ := os.ReadFile(path); string(b) != "second" {
 		t.Errorf("content %q, want %q", b, "second")
 	}
-	if fi, _ := os.Stat(path); fi.Mode().Perm() != 0o600 {
-		t.Errorf("replaced file mode %v, want 0600 kept", fi.Mode().Perm())
+	if fi, _ := os.Stat(path); fi.Mode().Perm() != 0o644 {
+		t.Errorf("replaced file mode %v, want 0644", fi.Mode().Perm())
 	}
 	// A failing fill leaves the old file and no temporary file.
 	boom := errors.New("boom")
@@ -59,7 +60,7 @@ func TestWriteFile(t *testing.T) {
 
 func TestWriteFileMissingFolder(t *testing.T) {
 	err := WriteFile(filepath.Join(t.TempDir(), "no", "such", "x"), func(io.Writer) error { return nil })
-	if !errors.Is(err, os.ErrNotExist) {
-		t.Errorf("error %v, want one wrapping os.ErrNotExist", err)
+	if !errors.Is(err, os.ErrNotExist) || !strings.Contains(err.Error(), "folder") || strings.Contains(err.Error(), ".tmp-") {
+		t.Errorf("error %q: want one naming the missing folder (not the temporary file) and wrapping os.ErrNotExist", err)
 	}
 }

@@ -38,8 +38,8 @@ func Write(w io.Writer, f *File) error {
 }
 
 // WriteFile writes f to path atomically: to a temporary file in the same
-// folder, synced to disk, then renamed over path (keeping the mode of a
-// file it replaces, else 0644). On error path is left as it was.
+// folder, synced to disk, then renamed over path (mode 0644). On error
+// path is left as it was.
 func WriteFile(path string, f *File) error {
 	var werr error // Write's own error goes back as it is; file system errors get the prefix
 	err := atomicfile.WriteFile(path, func(w io.Writer) error {
