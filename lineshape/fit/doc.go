@@ -102,7 +102,15 @@
 //
 // Collinear references (condition number of the unit-column design above
 // 1e7) are refused with a *CollinearError naming the pair with the
-// largest partial correlation; above 1e3 Prepare warns.
+// largest partial correlation. Prepare warns when two references, with the
+// background projected out of each over the window, correlate more
+// strongly than 0.95 (for two references alone each coefficient's SD then
+// grows by 1/sqrt(1-r^2), more than 3 times), or else when the condition
+// number exceeds 1e3.
+//
+// Options.MaxShift may be at most 50 eV and must be below the unknown's
+// energy range; Prepare refuses a larger bound with a
+// *lineshape.InputError.
 //
 // # Fractions
 //

@@ -123,7 +123,7 @@ func TestBadInput(t *testing.T) {
 		{"window-too-few-channels", u, refs, Options{Window: [2]float64{400, 405}}, "need at least 20", true},
 		{"modulation-mismatch", u, []Reference{refs[0], {ID: "m4", Spectrum: mod4}}, Options{}, "modulation", true},
 		{"direct-unknown-modulation-from-reference", directOf(u), []Reference{refs[0], {ID: "nomod", Spectrum: withoutModulation(refs[1].Spectrum)}}, Options{}, "", false},
-		{"direct-unknown-no-modulation", directOf(u), []Reference{{ID: "a", Spectrum: withoutModulation(refs[0].Spectrum)}, {ID: "b", Spectrum: withoutModulation(refs[1].Spectrum)}}, Options{}, "no modulation is recorded", true},
+		{"direct-unknown-no-modulation", directOf(u), []Reference{{ID: "a", Spectrum: withoutModulation(refs[0].Spectrum)}, {ID: "b", Spectrum: withoutModulation(refs[1].Spectrum)}}, Options{}, "none of them records", true},
 	}
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {

@@ -97,7 +97,9 @@ type Options struct {
 	// Shift selects the fitted shifts. The zero value is ShiftCommon.
 	Shift ShiftMode
 	// MaxShift bounds every fitted shift to [-MaxShift, MaxShift] eV. If
-	// MaxShift is 0, it defaults to 3 eV.
+	// MaxShift is 0, it defaults to 3 eV. Prepare refuses more than 50 eV,
+	// or a bound not below the unknown's energy range, unless Shift is
+	// ShiftNone.
 	MaxShift float64
 	// ScanStep is the step of the exhaustive shift scan in eV. If ScanStep
 	// is 0, it defaults to 0.05 eV; larger values are reduced to 0.05 eV.

@@ -92,10 +92,12 @@ func inputErr(file string, format string, args ...any) error {
 
 const (
 	minChannels       = 20
-	modulationRelTol  = 0.10 // modulations within 10 % are taken as equal
-	collinearError    = 1e7  // condition number of the scaled design: refuse
-	collinearWarning  = 1e3  // condition number of the scaled design: warn
-	modulationAbsTolV = 0.05 // eV
+	modulationRelTol  = 0.10    // modulations within 10 % are taken as equal
+	collinearError    = 1e7     // condition number of the scaled design: refuse
+	collinearWarning  = 1e3     // condition number of the scaled design: warn
+	nearCollinearCorr = 0.95    // detrended pairwise correlation of references: warn
+	multipleCorr      = 0.99995 // plain correlation that prints as 1.0000: a multiple
+	modulationAbsTolV = 0.05    // eV
 )
 
 // Prepare brings unknown and refs to one mode and one grid and returns the
@@ -170,6 +172,12 @@ func Prepare(unknown *lineshape.Spectrum, refs []Reference, opts Options) (*Mode
 			}
 		}
 		m.warnings = append(m.warnings, "references of different elements are fitted together ("+strings.Join(els, ", ")+"): fractions then mix elements")
+	}
+
+	if o.Shift != ShiftNone {
+		if err := checkMaxShift(o.MaxShift, unknown); err != nil {
+			return nil, err
+		}
 	}
 
 	// Uniform unknown.
@@ -251,9 +259,17 @@ func Prepare(unknown *lineshape.Spectrum, refs []Reference, opts Options) (*Mode
 	lo, hi := u.Axis.Lo()+utrim, u.Axis.Hi()-utrim
 	for i, s := range conv {
 		rlo, rhi := s.Axis.Lo()+trim[i]+m.bound, s.Axis.Hi()-trim[i]-m.bound
+		if rlo >= rhi {
+			return nil, inputErr(refs[i].Label(), "reference covers %s-%s eV, too short to be compared anywhere when shifted by up to %s eV either way",
+				plain(s.Axis.Lo(), 6), plain(s.Axis.Hi(), 6), plain(m.bound, 4))
+		}
 		if rlo >= hi || rhi <= lo {
-			return nil, inputErr(refs[i].Label(), "reference covers %.5g-%.5g eV, which does not overlap the unknown's %.5g-%.5g eV (allowing shifts of up to %.3g eV)",
-				s.Axis.Lo(), s.Axis.Hi(), u.Axis.Lo(), u.Axis.Hi(), m.bound)
+			if m.bound == 0 {
+				return nil, inputErr(refs[i].Label(), "reference covers %s-%s eV, which does not overlap the unknown's %s-%s eV",
+					plain(s.Axis.Lo(), 6), plain(s.Axis.Hi(), 6), plain(u.Axis.Lo(), 6), plain(u.Axis.Hi(), 6))
+			}
+			return nil, inputErr(refs[i].Label(), "reference covers %s-%s eV; shifted by up to %s eV either way it is known at every shift only in %s-%s eV, which does not overlap the unknown's %s-%s eV",
+				plain(s.Axis.Lo(), 6), plain(s.Axis.Hi(), 6), plain(m.bound, 4), plain(rlo, 6), plain(rhi, 6), plain(u.Axis.Lo(), 6), plain(u.Axis.Hi(), 6))
 		}
 		lo, hi = math.Max(lo, rlo), math.Min(hi, rhi)
 	}
@@ -458,9 +474,25 @@ func (m *Model) reconcileModulation(u *lineshape.Spectrum, refs []Reference) (fl
 		}
 	}
 	if needConversion && k == 0 {
-		return 0, inputErr(m.unknownLabel, "a direct spectrum must be compared with derivative ones, but no modulation is recorded: give the modulation (peak-to-peak, eV) explicitly")
-	}
-	// A modulation given in the options is what the user asked for: no
+		var direct, deriv []string
+		for _, r := range refs {
+			if r.Spectrum.Mode == lineshape.Direct {
+				direct = append(direct, r.Label())
+			} else {
+				deriv = append(deriv, r.Label())
+			}
+		}
+		ud := u.Mode == lineshape.Direct
+		nd, nv := len(direct), len(deriv)
+		if ud {
+			nd++
+		} else {
+			nv++
+		}
+		return 0, inputErr(m.unknownLabel, "%s %s direct but %s %s derivative: the direct %s must be converted by lock-in emulation at the derivative %s modulation, which %s; give the peak-to-peak modulation in eV (Options.Modulation, --modulation EV on the command line)",
+			spectraList(ud, direct), isAre(nd), spectraList(!ud, deriv), isAre(nv), plural(nd, "spectrum", "spectra"),
+			plural(nv, "spectrum's", "spectra's"), plural(nv, "it does not record", "none of them records"))
+	} // A modulation given in the options is what the user asked for: no
 	// need to say that it is assumed.
 	if len(unrecorded) > 0 && (len(recorded) > 0 || needConversion) && m.opts.Modulation == 0 {
 		m.warnings = append(m.warnings, fmt.Sprintf("modulation not recorded for %s: assumed to be %.3g eV like the others", strings.Join(unrecorded, ", "), k))
@@ -468,9 +500,63 @@ func (m *Model) reconcileModulation(u *lineshape.Spectrum, refs []Reference) (fl
 	return k, nil
 }
 
+// maxMaxShift is the largest Options.MaxShift Prepare accepts, in eV.
+// Chemical shifts in AES are a few eV and charging rarely moves a line by
+// more than tens of eV; a larger bound is a typing mistake.
+const maxMaxShift = 50
+
+// checkMaxShift refuses a shift bound above maxMaxShift or one not below
+// the unknown's energy range (a bound of more than half the range leaves
+// no window either, which the window checks of Prepare then explain).
+func checkMaxShift(b float64, u *lineshape.Spectrum) error {
+	const opt = "(Options.MaxShift, --max-shift on the command line)"
+	if b > maxMaxShift || math.IsInf(b, 0) || math.IsNaN(b) {
+		return &lineshape.InputError{Block: -1, Err: fmt.Errorf("maximum shift %s eV %s is more than %d eV: chemical shifts and charging are a few to tens of eV; give a bound of at most %d eV",
+			plain(b, 4), opt, maxMaxShift, maxMaxShift)}
+	}
+	if u.Len() >= 2 {
+		span := u.Axis.Hi() - u.Axis.Lo()
+		if b >= span {
+			return &lineshape.InputError{Block: -1, Err: fmt.Errorf("maximum shift %s eV %s is not less than the energy range of the unknown, %s-%s eV (%s eV): give a bound well below that range",
+				plain(b, 4), opt, plain(u.Axis.Lo(), 6), plain(u.Axis.Hi(), 6), plain(span, 4))}
+		}
+	}
+	return nil
+}
+
+// spectraList names the unknown (if unknown) and the references labels:
+// "the unknown and references A, B and C".
+func spectraList(unknown bool, labels []string) string {
+	var parts []string
+	if unknown {
+		parts = append(parts, "the unknown")
+	}
+	switch len(labels) {
+	case 0:
+	case 1:
+		parts = append(parts, "reference "+labels[0])
+	default:
+		parts = append(parts, "references "+strings.Join(labels[:len(labels)-1], ", ")+" and "+labels[len(labels)-1])
+	}
+	return strings.Join(parts, " and ")
+}
+
+// isAre returns "is" for one and "are" for more.
+func isAre(n int) string { return plural(n, "is", "are") }
+
+// plural returns one for n == 1 and many otherwise.
+func plural(n int, one, many string) string {
+	if n == 1 {
+		return one
+	}
+	return many
+}
+
 // checkCollinear refuses references that are collinear with each other (or
 // the background) in the window at zero shift and warns when they are
-// nearly so.
+// nearly so: when two reference columns, with the background projected
+// out, correlate more strongly than nearCollinearCorr, or else when the
+// condition number of the scaled design exceeds collinearWarning.
 func (m *Model) checkCollinear() error {
 	k := len(m.refs)
 	cols := make([][]float64, 0, k+len(m.basis))
@@ -479,33 +565,144 @@ func (m *Model) checkCollinear() error {
 	}
 	cols = append(cols, m.basis...)
 	cond, a, b, corr := condition(cols)
-	name := func(i int) string {
-		if i < k {
-			return m.refs[i].Label()
-		}
-		return fmt.Sprintf("background term %d", i-k)
-	}
 	if cond > collinearError || math.IsInf(cond, 0) || math.IsNaN(cond) {
-		return &CollinearError{A: name(a), B: name(b), Condition: cond, Correlation: corr}
+		return m.collinearError(cols, a, b, cond, corr)
 	}
-	if cond > collinearWarning {
-		m.warnings = append(m.warnings, fmt.Sprintf("%s and %s are nearly collinear in the window (condition number %.3g, correlation %.4f): their fractions trade off against each other", name(a), name(b), cond, corr))
+	warned := false
+	for _, p := range correlatedPairs(m.zero, m.basis, nearCollinearCorr) {
+		na, nb := m.refs[p.a].Label(), m.refs[p.b].Label()
+		effect := "strongly anti-correlated"
+		if p.r < 0 {
+			effect = "strongly correlated"
+		}
+		m.warnings = append(m.warnings, fmt.Sprintf("references %s and %s are alike in the fit window (correlation %.3f once the background is allowed for, above %.2f): fractions of %s and %s are %s; their uncertainties are large",
+			na, nb, p.r, nearCollinearCorr, na, nb, effect))
+		warned = true
+	}
+	if !warned && cond > collinearWarning {
+		m.warnings = append(m.warnings, fmt.Sprintf("%s and %s are nearly collinear in the fit window (condition number %s, partial correlation %.4f): their fractions trade off against each other and their uncertainties are large",
+			m.columnName(a), m.columnName(b), plain(cond, 3), corr))
 	}
 	return nil
 }
 
+// columnName names column i of the design: a reference or a background
+// term.
+func (m *Model) columnName(i int) string {
+	if i < len(m.refs) {
+		return m.refs[i].Label()
+	}
+	return fmt.Sprintf("background term %d", i-len(m.refs))
+}
+
+// collinearError builds the error for columns a and b of cols (the first
+// len(m.refs) are references), with the condition number and the
+// correlation condition returned.
+func (m *Model) collinearError(cols [][]float64, a, b int, cond, corr float64) *CollinearError {
+	e := &CollinearError{A: m.columnName(a), B: m.columnName(b), Condition: cond, Correlation: corr,
+		refA: a < len(m.refs), refB: b < len(m.refs)}
+	if a != b && a < len(cols) && b < len(cols) {
+		raw := dot(cols[a], cols[b]) / math.Sqrt(dot(cols[a], cols[a])*dot(cols[b], cols[b]))
+		if math.Abs(raw) >= multipleCorr {
+			e.Correlation, e.Multiple = raw, true
+		}
+	}
+	return e
+}
+
+// pair is two reference columns and their correlation.
+type pair struct {
+	a, b int
+	r    float64
+}
+
+// correlatedPairs returns the pairs of columns of refs whose correlation,
+// after projecting the basis columns out of each, exceeds thr in absolute
+// value. With no basis it is the uncentred correlation (cosine); with a
+// constant in the basis it is the Pearson correlation of the columns
+// detrended by the background, the one that decides how much the two
+// coefficients trade off: for two references alone the SD of each
+// coefficient grows by 1/sqrt(1-r^2).
+func correlatedPairs(refs, basis [][]float64, thr float64) []pair {
+	// Orthonormal basis by modified Gram-Schmidt (a few columns).
+	var ortho [][]float64
+	for _, b := range basis {
+		v := append([]float64(nil), b...)
+		for _, q := range ortho {
+			axpy(v, -dot(v, q), q)
+		}
+		if nv := math.Sqrt(dot(v, v)); nv > 0 {
+			for i := range v {
+				v[i] /= nv
+			}
+			ortho = append(ortho, v)
+		}
+	}
+	res := make([][]float64, len(refs))
+	for i, c := range refs {
+		v := append([]float64(nil), c...)
+		for _, q := range ortho {
+			axpy(v, -dot(v, q), q)
+		}
+		res[i] = v
+	}
+	var out []pair
+	for i := range res {
+		for j := i + 1; j < len(res); j++ {
+			r := dot(res[i], res[j]) / math.Sqrt(dot(res[i], res[i])*dot(res[j], res[j]))
+			if math.Abs(r) > thr {
+				out = append(out, pair{i, j, r})
+			}
+		}
+	}
+	return out
+}
+
+// axpy sets y += a x.
+func axpy(y []float64, a float64, x []float64) {
+	for i := range y {
+		y[i] += a * x[i]
+	}
+}
+
 // CollinearError reports references that cannot be told apart in the fit
-// window: the scaled design matrix has condition number Condition, and A
-// and B are the pair (references or background terms) with the largest
-// partial correlation.
+// window: the scaled design matrix has condition number Condition (+Inf
+// when singular), and A and B are the pair (references or background
+// terms) with the largest partial correlation, Correlation (the plain
+// correlation when Multiple is set or the design is singular). Multiple is
+// set when one of the pair is a multiple of the other (plain correlation
+// +/-1 to 4 decimals).
 type CollinearError struct {
 	A, B        string
 	Condition   float64
 	Correlation float64
+	Multiple    bool
+
+	refA, refB bool // A, B are references (else background terms)
 }
 
 func (e *CollinearError) Error() string {
-	return fmt.Sprintf("%s and %s are collinear in the fit window (condition number %.3g, correlation %.6f): their fractions cannot be told apart; drop one of them", e.A, e.B, e.Condition, e.Correlation)
+	var who string
+	switch {
+	case e.refA && e.refB:
+		who = "references " + e.A + " and " + e.B
+	case e.refA:
+		who = "reference " + e.A + " and " + e.B
+	case e.refB:
+		who = e.A + " and reference " + e.B
+	default:
+		who = e.A + " and " + e.B
+	}
+	var why string
+	switch {
+	case e.Multiple:
+		why = fmt.Sprintf("correlation %.4f: one is a multiple of the other", e.Correlation)
+	case !math.IsInf(e.Condition, 0) && !math.IsNaN(e.Condition) && e.Correlation != 0:
+		why = fmt.Sprintf("correlation %.4f once the other references and the background are allowed for", e.Correlation)
+	default:
+		why = "one is a combination of the other references and the background"
+	}
+	return fmt.Sprintf("%s are collinear in the fit window (%s): their fractions cannot be told apart; drop one of them", who, why)
 }
 
 func allZero(v []float64) bool {

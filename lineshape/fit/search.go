@@ -224,19 +224,14 @@ func (w *worker) sweep(shifts []float64, cur float64) float64 {
 
 func (w *worker) wrapErr(cols [][]float64, err error) error {
 	m := w.m
-	name := func(i int) string {
-		if i < len(m.refs) {
-			return m.refs[i].Label()
-		}
-		return "the background"
-	}
 	var re *nnls.RankError
 	if errors.As(err, &re) && len(re.Columns) >= 2 {
-		return &CollinearError{A: name(re.Columns[0]), B: name(re.Columns[1]), Condition: re.Cond}
+		a, b := re.Columns[0], re.Columns[1]
+		return m.collinearError(cols, a, b, re.Cond, 0)
 	}
 	if err == errSingular || err == nil || re != nil {
 		cond, a, b, corr := condition(append([][]float64(nil), cols...))
-		return &CollinearError{A: name(a), B: name(b), Condition: cond, Correlation: corr}
+		return m.collinearError(cols, a, b, cond, corr)
 	}
 	return err
 }
