@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"sort"
 	"testing"
 
 	"statemix/lineshape"
@@ -317,5 +318,58 @@ func diffCases() []dupCase {
 			[2][]tline{testTiN, withSatellite(testTiN, 0, -6, 0.15)}, 0, 1, 0, 200},
 		{"15 % satellite 5 eV above the main line", [2][]tline{testTiN, withSatellite(testTiN, 2, 5, 0.15)},
 			[2][]tline{testTiN, withSatellite(testTiN, 1, 5, 0.15)}, 0, 1.3, 0, 200},
+	}
+}
+
+// TestNoiseSD checks the noise estimate against the noise actually added,
+// for lock-in (2 eV) and direct recordings at steps 0.1-1 eV: the same at
+// S/N 20 and 200 (it does not see the signal), each draw within 30 % and
+// the median of 10 draws within 10 % of the truth. (Measured: 17 % and
+// 23 % worst over 20 draws at steps <= 0.5 and 1 eV; medians 0.96-1.03.)
+func TestNoiseSD(t *testing.T) {
+	for _, step := range gridSteps {
+		for _, mod := range []float64{2, 0} {
+			for _, snr := range []float64{20, 200} {
+				var rs []float64
+				for seed := uint64(1); seed <= 10; seed++ {
+					s := recordTest(testTiN, step, mod, 0, 1, snr, seed)
+					c := recordTest(testTiN, step, mod, 0, 1, 1e15, seed)
+					w := countingWeights(s)
+					var v float64
+					for i := range s.Y {
+						d := s.Y[i] - c.Y[i]
+						if w != nil {
+							d /= w[i]
+						}
+						v += d * d
+					}
+					truth := math.Sqrt(v / float64(len(s.Y)))
+					r := noiseSD(s, s.Meta.ModulationEV, w) / truth
+					if r < 0.7 || r > 1.3 {
+						t.Errorf("step %g mod %g S/N %g seed %d: noise estimate %.3f of the truth, want 0.7-1.3", step, mod, snr, seed, r)
+					}
+					rs = append(rs, r)
+				}
+				if m := median(rs); m < 0.9 || m > 1.1 {
+					t.Errorf("step %g mod %g S/N %g: median estimate %.3f of the truth, want 0.9-1.1", step, mod, snr, m)
+				}
+			}
+		}
+	}
+}
+
+// TestMedian compares the quickselect median with sorting.
+func TestMedian(t *testing.T) {
+	r := rand.New(rand.NewPCG(5, 6))
+	for n := 1; n < 60; n++ {
+		v := make([]float64, n)
+		for i := range v {
+			v[i] = math.Round(r.NormFloat64() * 3) // ties too
+		}
+		s := append([]float64(nil), v...)
+		sort.Float64s(s)
+		if got := median(v); got != s[n/2] {
+			t.Fatalf("n %d: median %v, want %v", n, got, s[n/2])
+		}
 	}
 }
