@@ -324,7 +324,7 @@ func synthesizeDemo(dir string, progress func(done, total int)) (*demoTruth, *de
 	if err := npy.WriteFile(mp, []int{mapH, mapW, alDeriv.N}, cube, "<f4"); err != nil {
 		return nil, nil, fmt.Errorf("demo: writing %s: %w", files.Map, err)
 	}
-	if err := npy.WriteSidecar(mp, npy.Sidecar{StartEV: alDeriv.Start, StepEV: alDeriv.Step, Mode: "derivative", PixelUM: 2}); err != nil {
+	if err := npy.WriteSidecar(mp, npy.Sidecar{StartEV: alDeriv.Start, StepEV: alDeriv.Step, Mode: "derivative", PixelUM: 2, ModulationEV: alDeriv.ModulationEV}); err != nil {
 		return nil, nil, fmt.Errorf("demo: writing the sidecar of %s: %w", files.Map, err)
 	}
 	return t, files, nil

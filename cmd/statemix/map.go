@@ -45,8 +45,10 @@ func newMapCmd(app *App) *cobra.Command {
 
 The spectrum image is a NumPy .npy cube of shape (height, width, channels)
 with its sidecar <name>.json ({"start_ev":..,"step_ev":..,"mode":..,
-"pixel_um":..}), read in tiles so that cubes larger than memory work, or an
-ISO 14976 file of map blocks with x and y positions. Every pixel is fitted
+"pixel_um":..}, and for a derivative cube optionally "modulation_ev":.., its
+peak-to-peak modulation in eV, so that --modulation is not needed), read in
+tiles so that cubes larger than memory work, or an ISO 14976 file of map
+blocks with x and y positions. Every pixel is fitted
 with the references of --refs/--ref-file and the model flags of statemix fit,
 one common shift per pixel (--shift common, the default, or none) found on a
 0.1 eV grid and refined between grid points. --out DIR receives
@@ -334,6 +336,7 @@ func niceLength(x float64) float64 {
 func lineshapeFromPixel(cube series.Cube, y []float64) (*lineshape.Spectrum, error) {
 	s := &lineshape.Spectrum{Axis: cube.Axis(), Y: y, Mode: cube.Mode()}
 	s.Meta.Source = cube.Name()
+	s.Meta.ModulationEV = series.CubeModulation(cube)
 	if err := s.Validate(); err != nil {
 		return nil, &lineshape.InputError{File: cube.Name(), Block: 0, Err: err}
 	}

@@ -86,6 +86,23 @@ func (c *NPYCube) Name() string { return c.name }
 // Sidecar returns the cube's sidecar.
 func (c *NPYCube) Sidecar() npy.Sidecar { return *c.sc }
 
+// ModulationEV returns the peak-to-peak modulation (eV) the sidecar's
+// modulation_ev records for a derivative cube, 0 if it records none or
+// the cube is direct.
+func (c *NPYCube) ModulationEV() float64 { return c.sc.Meta(c.name).ModulationEV }
+
+// CubeModulation returns the peak-to-peak modulation (eV) a derivative
+// cube records, for a Cube with a method ModulationEV() float64 (NPYCube,
+// MemCube), and 0 otherwise. Map gives it to fit.Prepare as the
+// Meta.ModulationEV of the cube's spectra, so references recorded as
+// direct spectra can be converted without Options.Modulation.
+func CubeModulation(c Cube) float64 {
+	if mc, ok := c.(interface{ ModulationEV() float64 }); ok && c.Mode() == lineshape.Derivative {
+		return mc.ModulationEV()
+	}
+	return 0
+}
+
 // ReadPixels reads pixels first..first+n-1 from the file.
 func (c *NPYCube) ReadPixels(dst []float64, first, n int) error { return c.r.ReadRows(dst, first, n) }
 
@@ -100,7 +117,13 @@ type MemCube struct {
 	SpectrumMode            lineshape.Mode
 	Label                   string
 	Values                  []float64
+	// Modulation is the peak-to-peak modulation (eV) of a derivative
+	// cube; 0 if not known.
+	Modulation float64
 }
+
+// ModulationEV returns c.Modulation.
+func (c *MemCube) ModulationEV() float64 { return c.Modulation }
 
 // Dims returns the height, width and channel count.
 func (c *MemCube) Dims() (int, int, int) { return c.Height, c.Width, c.Channels }
@@ -157,5 +180,12 @@ func CubeFromSpectra(specs []*lineshape.Spectrum, name string) (*MemCube, error)
 		seen[p] = true
 		copy(vals[p*c:(p+1)*c], s.Y)
 	}
-	return &MemCube{Height: h, Width: w, Channels: c, EnergyAxis: s0.Axis, SpectrumMode: s0.Mode, Label: name, Values: vals}, nil
+	mod := s0.Meta.ModulationEV
+	for _, s := range specs {
+		if s.Meta.ModulationEV != mod {
+			mod = 0 // the blocks disagree: not one recorded modulation
+			break
+		}
+	}
+	return &MemCube{Height: h, Width: w, Channels: c, EnergyAxis: s0.Axis, SpectrumMode: s0.Mode, Label: name, Values: vals, Modulation: mod}, nil
 }

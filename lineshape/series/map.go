@@ -258,6 +258,7 @@ func newPlan(cube Cube, refs []fit.Reference, opts MapOptions) (*plan, error) {
 	}
 	probe := &lineshape.Spectrum{Axis: ax, Y: ones, Mode: cube.Mode()}
 	probe.Meta.Source = cube.Name()
+	probe.Meta.ModulationEV = CubeModulation(cube)
 	m, err := fit.Prepare(probe, refs, fo)
 	if err != nil {
 		return nil, err

@@ -30,8 +30,12 @@
 //
 // A cube's energy axis is described by <name>.json beside <name>.npy
 // (DESIGN.md): start_ev and step_ev in eV, mode "derivative" or "direct",
-// and pixel_um in µm. ReadSidecar reads and validates it, CheckShape checks
-// it against the cube's channel count, and OpenCube does both.
+// pixel_um in µm and, optionally, modulation_ev: the peak-to-peak
+// modulation in eV a derivative cube was recorded with, which Sidecar.Meta
+// hands on as lineshape.Meta.ModulationEV. ReadSidecar reads and validates
+// it (a missing sidecar is a *lineshape.InputError naming its path),
+// CheckShape checks it against the cube's channel count, and OpenCube does
+// both.
 //
 // # Errors
 //

@@ -2,6 +2,7 @@ package npy
 
 import (
 	"bytes"
+	"encoding/json"
 	"errors"
 	"math"
 	"os"
@@ -72,6 +73,39 @@ func FuzzNpy(f *testing.F) {
 		}
 		if !same(b.Data, a.Data) || !slices.Equal(b.Shape, a.Shape) || b.DType != a.DType {
 			t.Fatal("round trip changed the array")
+		}
+	})
+}
+
+// FuzzParseSidecar: ParseSidecar never panics; what it accepts is valid
+// and survives a write and a read unchanged.
+func FuzzParseSidecar(f *testing.F) {
+	f.Add([]byte(`{"start_ev": 30, "step_ev": 0.5, "mode": "derivative", "pixel_um": 0.2}`))
+	f.Add([]byte(`{"start_ev": 30, "step_ev": 0.5, "mode": "derivative", "modulation_ev": 2}`))
+	f.Add([]byte(`{"start_ev": 30, "step_ev": 0.5, "mode": "direct", "modulation_ev": -2}`))
+	f.Add([]byte(`{"start_ev": 30, "step_ev": 1e7, "mode": "direct"}`))
+	f.Add([]byte(`{"start_ev": 30, "step_ev": 0.5,, "mode": "direct"}`))
+	f.Add([]byte(`{"start_ev": "30"}`))
+	f.Add([]byte(`[]`))
+	f.Fuzz(func(t *testing.T, b []byte) {
+		s, err := ParseSidecar(b, "fuzz.json")
+		if err != nil {
+			var ie *lineshape.InputError
+			if !errors.As(err, &ie) {
+				t.Fatalf("error %v (%T) is not an InputError", err, err)
+			}
+			return
+		}
+		if err := s.Validate(); err != nil {
+			t.Fatalf("accepted %+v fails Validate: %v", *s, err)
+		}
+		out, err := json.Marshal(s)
+		if err != nil {
+			t.Fatal(err)
+		}
+		back, err := ParseSidecar(out, "again.json")
+		if err != nil || *back != *s {
+			t.Fatalf("round trip of %+v: %+v, %v", *s, back, err)
 		}
 	})
 }

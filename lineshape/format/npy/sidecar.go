@@ -6,8 +6,10 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"io/fs"
 	"math"
 	"os"
+	"strconv"
 	"strings"
 
 	"statemix/internal/atomicfile"
@@ -15,14 +17,29 @@ import (
 )
 
 // Sidecar describes the energy axis of a spectrum-image cube. It is stored
-// as <name>.json beside <name>.npy (DESIGN.md):
+// as <name>.json beside <name>.npy (DESIGN.md), with the optional
+// modulation_ev of a derivative cube:
 //
-//	{"start_ev": 30, "step_ev": 0.5, "mode": "derivative", "pixel_um": 0.2}
+//	{"start_ev": 30, "step_ev": 0.5, "mode": "derivative", "pixel_um": 0.2, "modulation_ev": 2}
 type Sidecar struct {
 	StartEV float64 `json:"start_ev"` // kinetic energy of channel 0, eV
 	StepEV  float64 `json:"step_ev"`  // channel spacing, eV, > 0
 	Mode    string  `json:"mode"`     // "derivative" or "direct"
 	PixelUM float64 `json:"pixel_um"` // pixel pitch, µm; 0 if not known
+	// ModulationEV is the peak-to-peak modulation (eV) a derivative cube
+	// was recorded with; 0 if not known (and left out of the JSON). It
+	// means nothing for a direct cube.
+	ModulationEV float64 `json:"modulation_ev,omitempty"`
+}
+
+// Meta returns the acquisition metadata the sidecar records, for the
+// spectra of the cube at source: the source and the modulation.
+func (s *Sidecar) Meta(source string) lineshape.Meta {
+	m := lineshape.Meta{Source: source}
+	if s.Mode == "derivative" {
+		m.ModulationEV = s.ModulationEV
+	}
+	return m
 }
 
 // SidecarPath returns the sidecar path of a cube: the cube's path with a
@@ -38,20 +55,25 @@ func SidecarPath(cubePath string) string {
 const maxSidecar = 1 << 20
 
 // ReadSidecar reads and validates the sidecar of the cube at cubePath.
-// start_ev, step_ev and mode are required; pixel_um may be left out; other
-// fields are ignored so later versions can add some. Errors about the
-// content are *lineshape.InputError values naming the sidecar and, for JSON
-// syntax errors, the line.
+// start_ev, step_ev and mode are required; pixel_um and modulation_ev may
+// be left out; other fields are ignored so later versions can add some.
+// Errors are *lineshape.InputError values naming the sidecar and, for JSON
+// syntax errors, the line; a missing sidecar is one that wraps
+// fs.ErrNotExist.
 func ReadSidecar(cubePath string) (*Sidecar, error) {
 	path := SidecarPath(cubePath)
 	f, err := os.Open(path)
 	if err != nil {
-		return nil, err
+		if errors.Is(err, fs.ErrNotExist) {
+			return nil, &lineshape.InputError{File: path, Block: -1,
+				Err: fmt.Errorf("sidecar missing: the spectrum image %s needs one beside it, such as {\"start_ev\": 1330, \"step_ev\": 0.5, \"mode\": \"derivative\", \"pixel_um\": 2} (%w)", cubePath, fs.ErrNotExist)}
+		}
+		return nil, &lineshape.InputError{File: path, Block: -1, Err: fmt.Errorf("reading the sidecar: %w", unwrapPath(err))}
 	}
 	defer f.Close()
 	b, err := io.ReadAll(io.LimitReader(f, maxSidecar+1))
 	if err != nil {
-		return nil, err
+		return nil, &lineshape.InputError{File: path, Block: -1, Err: fmt.Errorf("reading the sidecar: %w", unwrapPath(err))}
 	}
 	if len(b) > maxSidecar {
 		return nil, lineshape.Errorf(path, 0, "sidecar longer than %d bytes", maxSidecar)
@@ -66,6 +88,8 @@ func ParseSidecar(b []byte, name string) (*Sidecar, error) {
 		StepEV  *float64 `json:"step_ev"`
 		Mode    *string  `json:"mode"`
 		PixelUM *float64 `json:"pixel_um"`
+		// ModulationEV is optional.
+		ModulationEV *float64 `json:"modulation_ev"`
 	}
 	dec := json.NewDecoder(bytes.NewReader(b))
 	if err := dec.Decode(&raw); err != nil {
@@ -95,6 +119,9 @@ func ParseSidecar(b []byte, name string) (*Sidecar, error) {
 	if raw.PixelUM != nil {
 		s.PixelUM = *raw.PixelUM
 	}
+	if raw.ModulationEV != nil {
+		s.ModulationEV = *raw.ModulationEV
+	}
 	if err := s.Validate(); err != nil {
 		return nil, lineshape.Errorf(name, 0, "sidecar: %v", err)
 	}
@@ -116,21 +143,46 @@ func lineOf(b []byte, off int64) int {
 // below 1 MeV.
 const maxEnergy = 1e6
 
+// maxModulation bounds modulation_ev in eV: lock-in modulations are a few
+// eV, and one of 100 eV would smear out every Auger line.
+const maxModulation = 100
+
+// plain formats v in plain decimal notation, never with an exponent.
+func plain(v float64) string {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return strconv.FormatFloat(v, 'g', -1, 64)
+	}
+	return strconv.FormatFloat(v, 'f', -1, 64)
+}
+
+// unwrapPath drops the *fs.PathError around err, whose path the
+// *lineshape.InputError already names.
+func unwrapPath(err error) error {
+	var pe *fs.PathError
+	if errors.As(err, &pe) {
+		return fmt.Errorf("%s: %w", pe.Op, pe.Err)
+	}
+	return err
+}
+
 // Validate checks the sidecar: a finite start between 0 and 1 MeV, a
-// positive finite step, a known mode and a pixel pitch that is not
-// negative.
+// positive finite step, a known mode, a pixel pitch that is not negative
+// and a modulation from 0 (not known) to 100 eV.
 func (s *Sidecar) Validate() error {
 	if !(s.StartEV >= 0 && s.StartEV <= maxEnergy) {
-		return fmt.Errorf("start_ev %v: want a kinetic energy from 0 to %g eV", s.StartEV, maxEnergy)
+		return fmt.Errorf("start_ev %s: want a kinetic energy from 0 to %s eV", plain(s.StartEV), plain(maxEnergy))
 	}
 	if !(s.StepEV > 0 && s.StepEV <= maxEnergy) {
-		return fmt.Errorf("step_ev %v: want a positive step of at most %g eV", s.StepEV, maxEnergy)
+		return fmt.Errorf("step_ev %s: want a positive step of at most %s eV", plain(s.StepEV), plain(maxEnergy))
 	}
 	if s.Mode != "derivative" && s.Mode != "direct" {
 		return fmt.Errorf("mode %q: want \"derivative\" or \"direct\"", s.Mode)
 	}
 	if !(s.PixelUM >= 0) || math.IsInf(s.PixelUM, 0) {
-		return fmt.Errorf("pixel_um %v: want a pitch of 0 (unknown) or more", s.PixelUM)
+		return fmt.Errorf("pixel_um %s: want a pitch of 0 (unknown) or more", plain(s.PixelUM))
+	}
+	if !(s.ModulationEV >= 0 && s.ModulationEV <= maxModulation) {
+		return fmt.Errorf("modulation_ev %s: want a peak-to-peak modulation from 0 (not known) to %d eV", plain(s.ModulationEV), maxModulation)
 	}
 	return nil
 }
@@ -155,8 +207,8 @@ func (s *Sidecar) CheckShape(shape []int) error {
 		return fmt.Errorf("shape %v: %d channels on the last axis, need at least 2", shape, c)
 	}
 	if hi := s.StartEV + float64(c-1)*s.StepEV; hi > maxEnergy {
-		return fmt.Errorf("shape %v: %d channels from %g eV in steps of %g eV reach %g eV, beyond %g eV: is step_ev right?",
-			shape, c, s.StartEV, s.StepEV, hi, maxEnergy)
+		return fmt.Errorf("shape %v: %d channels from %s eV in steps of %s eV reach %s eV, beyond %s eV: is step_ev right?",
+			shape, c, plain(s.StartEV), plain(s.StepEV), plain(hi), plain(maxEnergy))
 	}
 	return nil
 }

@@ -39,6 +39,10 @@ func TestSidecar(t *testing.T) {
 		{"syntax", "{\n  \"start_ev\": 3,\n  \"step_ev\": 0.5,,\n}", 3, "invalid character"},
 		{"type", "{\n\"start_ev\": \"3\"}", 2, "cannot unmarshal"},
 		{"two values", `{"start_ev": 3, "step_ev": 0.5, "mode": "direct"} {}`, 1, "more than one"},
+		{"modulation", `{"start_ev": 30, "step_ev": 0.5, "mode": "derivative", "pixel_um": 2, "modulation_ev": 3}`, -1, ""},
+		{"negative modulation", `{"start_ev": 3, "step_ev": 0.5, "mode": "derivative", "modulation_ev": -1}`, 0, "modulation_ev -1: want a peak-to-peak modulation"},
+		{"huge modulation", `{"start_ev": 3, "step_ev": 0.5, "mode": "derivative", "modulation_ev": 1e3}`, 0, "modulation_ev 1000:"},
+		{"huge step", `{"start_ev": 3, "step_ev": 2e6, "mode": "direct"}`, 0, "step_ev 2000000: want a positive step of at most 1000000 eV"},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -66,8 +70,48 @@ func TestSidecar(t *testing.T) {
 			}
 		})
 	}
-	if _, err := ReadSidecar(filepath.Join(t.TempDir(), "none.npy")); !errors.Is(err, os.ErrNotExist) {
-		t.Errorf("missing sidecar: %v", err)
+	none := filepath.Join(t.TempDir(), "none.npy")
+	_, err := ReadSidecar(none)
+	var ie *lineshape.InputError
+	if !errors.Is(err, os.ErrNotExist) || !errors.As(err, &ie) || ie.File != SidecarPath(none) || !strings.Contains(err.Error(), "sidecar missing") {
+		t.Errorf("missing sidecar: %v (%T), want an InputError naming %s that wraps fs.ErrNotExist", err, err, SidecarPath(none))
+	}
+}
+
+// TestSidecarModulation: modulation_ev is read back, written only when
+// set, and reaches the Meta of a derivative cube but not of a direct one.
+func TestSidecarModulation(t *testing.T) {
+	s, err := ParseSidecar([]byte(`{"start_ev": 30, "step_ev": 0.5, "mode": "derivative", "modulation_ev": 2.5}`), "c.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if s.ModulationEV != 2.5 || s.Meta("c.npy").ModulationEV != 2.5 || s.Meta("c.npy").Source != "c.npy" {
+		t.Errorf("sidecar %+v, meta %+v: want modulation 2.5", *s, s.Meta("c.npy"))
+	}
+	s.Mode = "direct"
+	if m := s.Meta("c.npy"); m.ModulationEV != 0 {
+		t.Errorf("direct cube meta %+v records a modulation", m)
+	}
+	dir := t.TempDir()
+	for _, tc := range []struct {
+		sc   Sidecar
+		json bool // modulation_ev in the file
+	}{
+		{Sidecar{StartEV: 100, StepEV: 0.25, Mode: "derivative", PixelUM: 1.5, ModulationEV: 3}, true},
+		{Sidecar{StartEV: 100, StepEV: 0.25, Mode: "derivative", PixelUM: 1.5}, false},
+	} {
+		cube := filepath.Join(dir, "m.npy")
+		if err := WriteSidecar(cube, tc.sc); err != nil {
+			t.Fatal(err)
+		}
+		b, _ := os.ReadFile(SidecarPath(cube))
+		if strings.Contains(string(b), "modulation_ev") != tc.json {
+			t.Errorf("sidecar %s: modulation_ev written %v, want %v", b, !tc.json, tc.json)
+		}
+		got, err := ReadSidecar(cube)
+		if err != nil || *got != tc.sc {
+			t.Errorf("read back %+v, %v; want %+v", got, err, tc.sc)
+		}
 	}
 }
 
