@@ -37,12 +37,26 @@
 // Meta.Counts. A binding-energy axis is converted to kinetic energy with
 // Options.ExcitationEV, and is an error without it.
 //
+// # Metadata comments
+//
+// A leading comment line "key: value" whose key is one of the JSON names of
+// lineshape.Meta that Write records (mode, sample, technique,
+// beam_energy_kev, beam_current_na, dwell_s, scans, modulation_ev,
+// energy_reference, analyser_mode, take_off_deg, excitation_ev,
+// sputter_time_s), with a valid value, sets that field instead of being
+// kept in Meta.Comments:
+//
+//	# modulation_ev: 2
+//	# beam_energy_kev: 10
+//	# mode: derivative
+//
 // # Mode
 //
 // Options.Mode, when set, decides the mode. Otherwise a value-column header
-// decides it, and without a header the spectrum is taken as a derivative
-// (dN/dE): this package serves derivative Auger work, and a file with no
-// header says nothing either way. Callers that know better set Options.Mode.
+// decides it, then a "# mode:" comment, and without either the spectrum is
+// taken as a derivative (dN/dE): this package serves derivative Auger work,
+// and a file with no header says nothing either way. Callers that know
+// better set Options.Mode.
 //
 // # Errors
 //
@@ -51,7 +65,8 @@
 //
 // # Writing
 //
-// Write produces a header row ("energy_ev" and the mode's column name) and
-// one row per channel with every number in the shortest form that reads
-// back to the same float64, so a Write-then-Read round trip is exact.
+// Write produces the comments, the metadata comments, a header row
+// ("energy_ev" and the mode's column name) and one row per channel with
+// every number in the shortest form that reads back to the same float64, so
+// a Write-then-Read round trip is exact, metadata included.
 package delimited

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"errors"
 	"os"
+	"reflect"
 	"strings"
 	"testing"
 
@@ -35,6 +36,8 @@ func FuzzDelimited(f *testing.F) {
 		"1e6 1\n-1e6 2\n",
 		"1 1\n1.0000000000000002 2\n1.0000000000000004 3\n",
 		"0x1p-3 1\n0x1p-2 2\n",
+		"# modulation_ev: 2\n# beam_energy_kev: 10\n# mode: direct\n1,2\n2,3\n",
+		"# scans: 0\n# sputter_time_s: 0\n# sample:\n# take_off_deg: nan\nenergy,dN/dE\n1,2\n2,3\n",
 	}
 	if b, err := os.ReadFile(realFile); err == nil {
 		seeds = append(seeds, string(b[:2000]))
@@ -70,6 +73,11 @@ func FuzzDelimited(f *testing.F) {
 			if back.Y[i] != s.Y[i] {
 				t.Fatalf("channel %d: %v read back as %v", i, s.Y[i], back.Y[i])
 			}
+		}
+		want := s.Meta.Clone()
+		want.Source, want.BlockID = back.Meta.Source, back.Meta.BlockID
+		if !reflect.DeepEqual(back.Meta, want) {
+			t.Fatalf("meta read back as %+v, want %+v\n%s", back.Meta, want, buf.String())
 		}
 		_, _ = ReadAll(bytes.NewReader(data), "fuzz", opts)
 	})

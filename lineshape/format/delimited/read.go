@@ -434,6 +434,12 @@ func (t *table) spectrum(e []float64, ec, vc, block int, opts Options) (*linesha
 	case kindDirect, kindCounts, kindDirectTimesE:
 		mode = lineshape.Direct
 	}
+	var meta lineshape.Meta
+	var metaMode *lineshape.Mode
+	comments := splitMeta(t.comments, &meta, &metaMode)
+	if kind == kindUnknown && metaMode != nil {
+		mode = *metaMode
+	}
 	if opts.Mode != nil {
 		mode = *opts.Mode
 	}
@@ -444,6 +450,7 @@ func (t *table) spectrum(e []float64, ec, vc, block int, opts Options) (*linesha
 	if err != nil {
 		return nil, lineshape.Errorf(t.name, 0, "%v", err)
 	}
+	s.Meta = meta
 	s.Meta.Source = t.name
 	s.Meta.Block = block
 	if t.header != nil && t.header[vc] != "" {
@@ -455,8 +462,8 @@ func (t *table) spectrum(e []float64, ec, vc, block int, opts Options) (*linesha
 		s.Meta.Counts = kind == kindCounts
 		s.Meta.TimesEnergy = kind == kindDirectTimesE
 	}
-	if len(t.comments) > 0 {
-		s.Meta.Comments = append([]string(nil), t.comments...)
+	if len(comments) > 0 {
+		s.Meta.Comments = comments
 	}
 	return s, nil
 }

@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"io"
 	"strconv"
-	"strings"
 
 	"statemix/lineshape"
 )
@@ -21,6 +20,9 @@ type WriteOptions struct {
 	NoHeader bool
 	// NoComments leaves out the "# ..." lines written from Meta.Comments.
 	NoComments bool
+	// NoMeta leaves out the "# key: value" lines of acquisition metadata
+	// (mode, modulation_ev, beam_energy_kev, ...).
+	NoMeta bool
 }
 
 // ValueName returns the header name Write gives the values of s: "dN/dE"
@@ -40,16 +42,22 @@ func ValueName(s *lineshape.Spectrum) string {
 }
 
 // Write writes s as two columns, kinetic energy in eV and values, preceded
-// by s.Meta.Comments as "# " lines and a header row naming the columns
-// ("energy_ev" and ValueName(s)). Numbers are written in the shortest form
-// that reads back to the same float64.
+// by s.Meta.Comments as "# " lines, the acquisition metadata as
+// "# key: value" lines (the JSON names of lineshape.Meta: mode (only
+// without a header row, whose names say it otherwise), sample,
+// technique, beam_energy_kev, beam_current_na, dwell_s, scans,
+// modulation_ev, energy_reference, analyser_mode, take_off_deg,
+// excitation_ev, sputter_time_s; those not set are left out), which Read
+// reads back into Meta, and a header row naming the columns ("energy_ev"
+// and ValueName(s)). Numbers are written in the shortest form that reads
+// back to the same float64.
 func Write(w io.Writer, s *lineshape.Spectrum, opts WriteOptions) error {
 	return WriteTable(w, []*lineshape.Spectrum{s}, opts)
 }
 
 // WriteTable writes spectra that share one energy axis as one energy column
-// and one value column per spectrum, with the comments of the first. It is
-// an error if the axes differ.
+// and one value column per spectrum, with the comments of the first and the
+// metadata all of them share. It is an error if the axes differ.
 func WriteTable(w io.Writer, specs []*lineshape.Spectrum, opts WriteOptions) error {
 	sep := byte(',')
 	switch opts.Separator {
@@ -74,8 +82,12 @@ func WriteTable(w io.Writer, specs []*lineshape.Spectrum, opts WriteOptions) err
 	bw := bufio.NewWriter(w)
 	if !opts.NoComments {
 		for _, c := range first.Meta.Comments {
-			c = strings.NewReplacer("\r", " ", "\n", " ").Replace(c)
-			bw.WriteString("# " + c + "\n")
+			bw.WriteString("# " + oneLine(c) + "\n")
+		}
+	}
+	if !opts.NoMeta {
+		for _, l := range metaLines(specs, opts.NoHeader) {
+			bw.WriteString("# " + l + "\n")
 		}
 	}
 	if !opts.NoHeader {
