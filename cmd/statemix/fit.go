@@ -12,12 +12,9 @@ import (
 	"path/filepath"
 	"strconv"
 	"strings"
-	"time"
 
-	"github.com/schollz/progressbar/v3"
 	"github.com/spf13/cobra"
 	"github.com/spf13/pflag"
-	"golang.org/x/term"
 
 	"statemix/cmd/statemix/render"
 	"statemix/internal/atomicfile"
@@ -388,20 +385,17 @@ func runFit(app *App, opts *fitOptions) error {
 	if err != nil {
 		return err
 	}
-	var bar *progressbar.ProgressBar
-	if opts.fit.Uncertainty == fit.Bootstrap && showProgress(app) {
-		bar = progressbar.NewOptions(opts.fit.Samples, progressbar.OptionSetWriter(app.Err),
-			progressbar.OptionSetDescription("bootstrap"), progressbar.OptionClearOnFinish(), progressbar.OptionThrottle(100*time.Millisecond))
-		opts.fit.Progress = func(done, total int) { _ = bar.Set(done) }
+	var bar *progress
+	if opts.fit.Uncertainty == fit.Bootstrap {
+		bar = newProgress(app, opts.fit.Samples, "bootstrap")
+		opts.fit.Progress = bar.Func()
 	}
 	m, err := fit.Prepare(unknown, refs, opts.fit)
 	if err != nil {
 		return fitError(err)
 	}
 	res, err := m.Fit(app.Ctx, unknown)
-	if bar != nil {
-		_ = bar.Finish()
-	}
+	bar.Finish()
 	if err != nil {
 		return fitError(err)
 	}
@@ -451,15 +445,6 @@ func runFit(app *App, opts *fitOptions) error {
 		return writeFitJSON(app.Out, doc)
 	}
 	return writeFitHuman(app, opts, res, doc)
-}
-
-// showProgress reports whether a progress bar belongs on stderr.
-func showProgress(app *App) bool {
-	if app.NoProgress || app.Quiet {
-		return false
-	}
-	f, ok := app.Err.(*os.File)
-	return ok && term.IsTerminal(int(f.Fd()))
 }
 
 // fitError maps fit errors to exit statuses: collinear references are bad

@@ -3,9 +3,6 @@ package main
 import (
 	"errors"
 	"fmt"
-	"time"
-
-	"github.com/schollz/progressbar/v3"
 
 	"statemix/index"
 	"statemix/library"
@@ -25,21 +22,15 @@ func (a *App) syncIndex(store *library.Store) error {
 	}
 	// A big reindex (a first search of a large library, an import) shows a
 	// progress bar on a terminal; the usual one-entry update does not.
-	var bar *progressbar.ProgressBar
-	progress := func(done, total int) {
-		if bar == nil && total >= 1000 && showProgress(a) {
-			bar = progressbar.NewOptions(total, progressbar.OptionSetWriter(a.Err),
-				progressbar.OptionSetDescription("index"), progressbar.OptionClearOnFinish(),
-				progressbar.OptionThrottle(100*time.Millisecond))
+	var bar *progress
+	started := false
+	err = x.SyncContext(a.Ctx, store, func(done, total int) {
+		if !started && total >= 1000 {
+			bar, started = newProgress(a, total, "index"), true
 		}
-		if bar != nil {
-			_ = bar.Set(done)
-		}
-	}
-	err = x.SyncContext(a.Ctx, store, progress)
-	if bar != nil {
-		_ = bar.Finish()
-	}
+		bar.Set(done, total)
+	})
+	bar.Finish()
 	if cerr := x.Close(); err == nil {
 		err = cerr
 	}
