@@ -384,7 +384,7 @@ func checkEntries(libDir string, entries []*library.Entry, rev int) (stale bool,
 		}
 	}
 	sort.Strings(extra)
-	list := func(what string, ids []string) {
+	list := func(one, many string, ids []string) {
 		if len(ids) == 0 {
 			return
 		}
@@ -393,11 +393,15 @@ func checkEntries(libDir string, entries []*library.Entry, rev int) (stale bool,
 		if len(shown) > 5 {
 			shown, more = shown[:5], fmt.Sprintf(" and %d more", len(ids)-5)
 		}
+		what := many
+		if len(ids) == 1 {
+			what = one
+		}
 		problems = append(problems, fmt.Sprintf("index: %d %s: %s%s", len(ids), what, strings.Join(shown, ", "), more))
 	}
-	list("entries not indexed", missing)
-	list("entries indexed from an older version", outdated)
-	list("indexed entries no longer in the library", extra)
+	list("entry not indexed", "entries not indexed", missing)
+	list("entry indexed from an older version", "entries indexed from an older version", outdated)
+	list("indexed entry no longer in the library", "indexed entries no longer in the library", extra)
 	return len(problems) > 0, problems, nil
 }
 

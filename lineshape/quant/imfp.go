@@ -3,6 +3,7 @@ package quant
 import (
 	"fmt"
 	"math"
+	"strconv"
 )
 
 // Validity range of the TPP-2M fit (Tanuma, Powell & Penn 1994 fitted
@@ -75,9 +76,19 @@ func TPP2M(m Material, energyEV float64) (IMFPResult, error) {
 	}
 	r.IMFP = e / den / 10 // Angstrom to nm
 	if e < TPP2MMinEV || e > TPP2MMaxEV {
-		r.Warnings = append(r.Warnings, fmt.Sprintf("energy %g eV is outside %g-%g eV, the range TPP-2M was fitted to (Tanuma, Powell & Penn 1994): the IMFP is an extrapolation", e, TPP2MMinEV, TPP2MMaxEV))
+		r.Warnings = append(r.Warnings, fmt.Sprintf("energy %s eV is outside %s-%s eV, the range TPP-2M was fitted to (Tanuma, Powell & Penn 1994): the IMFP is an extrapolation", plainEV(e), plainEV(TPP2MMinEV), plainEV(TPP2MMaxEV)))
 	}
 	return r, nil
+}
+
+// plainEV formats an energy to 6 significant digits in plain decimal
+// notation: 1e6 is "1000000", not "1e+06".
+func plainEV(v float64) string {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return strconv.FormatFloat(v, 'g', -1, 64)
+	}
+	r, _ := strconv.ParseFloat(strconv.FormatFloat(v, 'g', 6, 64), 64)
+	return strconv.FormatFloat(r, 'f', -1, 64)
 }
 
 // SeahDenchMethod names the Seah-Dench formula in results.

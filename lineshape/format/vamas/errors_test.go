@@ -43,6 +43,7 @@ func TestBadFiles(t *testing.T) {
 		{"truncated header", strings.Join(l[:9], "\n") + "\n", 10, -1, "number of experimental variables: unexpected end of file"},
 		{"truncated block", strings.Join(l[:30], "\n") + "\n", 31, 0, "analysis source beam width y: unexpected end of file"},
 		{"truncated data", strings.Join(l[:68], "\n") + "\n", 63, 0, "ordinate count 8, but only 5 lines follow"},
+		{"truncated data, one line", strings.Join(l[:64], "\n") + "\n", 63, 0, "ordinate count 8, but only 1 line follows"},
 		{"count too large", edit(63, "10"), 63, 0, "ordinate count 10, want 8"},
 		{"count odd", edit(63, "9"), 63, 0, "want a multiple of the 2 corresponding variables"},
 		{"count too small", edit(63, "6"), 74, -1, `want "end of experiment" after block 1, got "1020"`},

@@ -198,7 +198,7 @@ func (p *parser) fits(what string, n, per int) {
 		per = 1
 	}
 	if rem := p.remaining(); n > rem/per {
-		p.fail("%s: %d, but only %d lines follow", what, n, rem)
+		p.fail("%s: %d, but only %s", what, n, linesFollow(rem))
 	}
 }
 
@@ -315,7 +315,7 @@ func (p *parser) readOrdinates(f *File, b *Block) {
 		if k, at := p.terminatorAhead(); k >= 2*nv {
 			p.fail("ordinate count %d, want %d (%q follows at line %d)", n, k-2*nv, Terminator, at)
 		} else {
-			p.fail("ordinate count %d, but only %d lines follow (want %d with the minima and maxima)", n, rem, n+2*nv)
+			p.fail("ordinate count %d, but only %s (want %d with the minima and maxima)", n, linesFollow(rem), n+2*nv)
 		}
 		return
 	}
@@ -478,4 +478,13 @@ func echo(s string) string {
 		s = s[:maxLineEcho] + "..."
 	}
 	return strconv.Quote(s)
+}
+
+// linesFollow says how many lines follow: "1 line follows", "5 lines
+// follow".
+func linesFollow(n int) string {
+	if n == 1 {
+		return "1 line follows"
+	}
+	return fmt.Sprintf("%d lines follow", n)
 }
