@@ -5,6 +5,7 @@ import (
 	"io"
 	"math"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"unicode/utf8"
 
@@ -136,18 +137,34 @@ func FractionText(c fit.Component, percent bool) string {
 	return fmt.Sprintf(f+" ± "+f, scale*c.Fraction, scale*c.FractionSD)
 }
 
-// QualityText returns the quality of a fit as one line.
+// QualityText returns the quality of a fit as one line, every value to 3
+// significant digits (see num): "points 269, dof 264, reduced chi-square
+// 2.40, R-factor 0.0392, residual RMS 199, noise SD 131".
 func QualityText(q fit.Quality) string {
 	return fmt.Sprintf("points %d, dof %d, reduced chi-square %s, R-factor %s, residual RMS %s, noise SD %s",
 		q.Points, q.DOF, num(q.Chi2Reduced), num(q.RFactor), num(q.ResidualRMS), num(q.NoiseSD))
 }
 
-// num formats v with 3 significant digits.
+// num formats v with 3 significant digits, trailing zeros kept so that
+// values side by side read alike (2.40 beside 2.45, not 2.4): in plain
+// decimal notation from 0.0001 to below 1000000 (0.0392, 199, 12345),
+// and outside that range, where plain digits would hide the magnitude, as
+// 1.43e-07. Zero is "0"; NaN and infinities are spelled as Go does.
 func num(v float64) string {
-	if v == 0 || math.IsNaN(v) {
+	if v == 0 || math.IsNaN(v) || math.IsInf(v, 0) {
 		return fmt.Sprint(v)
 	}
-	return fmt.Sprintf("%.3g", v)
+	a := math.Abs(v)
+	if a < 1e-4 || a >= 1e6 {
+		return fmt.Sprintf("%.2e", v)
+	}
+	// Round to 3 significant digits first: 9.996 becomes 10.0, not 10.00.
+	r, _ := strconv.ParseFloat(strconv.FormatFloat(v, 'e', 2, 64), 64)
+	dec := 2 - int(math.Floor(math.Log10(math.Abs(r))))
+	if dec < 0 {
+		dec = 0
+	}
+	return strconv.FormatFloat(r, 'f', dec, 64)
 }
 
 // WriteFitText writes a fit for a terminal: the component table, the
