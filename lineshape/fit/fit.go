@@ -175,14 +175,14 @@ func (m *Model) values(unknown *lineshape.Spectrum) ([]float64, error) {
 		}
 		d, err := s.LockIn(k)
 		if err != nil {
-			return nil, inputErr(label, "lock-in emulation with %.3g eV modulation: %v", k, err)
+			return nil, inputErr(label, "lock-in emulation with %s eV modulation: %v", plain(k, 3), err)
 		}
 		s = d
 	}
 	lo, hi := m.window[0], m.window[1]
 	tol := 1e-6 * m.step
 	if s.Axis.Lo() > lo+tol || s.Axis.Hi() < hi-tol {
-		return nil, inputErr(label, "spectrum covers %.5g-%.5g eV, shorter than the fit window %.5g-%.5g eV", s.Axis.Lo(), s.Axis.Hi(), lo, hi)
+		return nil, inputErr(label, "spectrum covers %s-%s eV, shorter than the fit window %s-%s eV", plain(s.Axis.Lo(), 5), plain(s.Axis.Hi(), 5), plain(lo, 5), plain(hi, 5))
 	}
 	y := make([]float64, m.n)
 	if s.Axis.Uniform() && math.Abs(s.Axis.Step-m.step) <= 1e-9*m.step {
@@ -266,16 +266,49 @@ func (m *Model) result(w *worker, y []float64, sol solution) (*Result, error) {
 	// Warnings.
 	for _, c := range res.Components {
 		if c.ShiftAtBound {
-			res.Warnings = append(res.Warnings, fmt.Sprintf("shift of %s is at its bound (%+.3g eV of %.3g eV allowed): widen the maximum shift or check the energy scale", label(c), c.Shift, m.bound))
+			res.Warnings = append(res.Warnings, fmt.Sprintf("shift of %s is at its bound (%+.3g eV of %s eV allowed): widen the maximum shift or check the energy scale", label(c), c.Shift, plain(m.bound, 3)))
 			if m.opts.Shift == ShiftCommon {
 				break
 			}
 		}
 	}
+	if m.opts.Shift == ShiftEach {
+		res.Warnings = append(res.Warnings, m.alikeAtShifts(sol.shifts)...)
+	}
 	if lo, hi, ratio, thr := structure(cv.Energy, cv.Residual, qu.CorrelationFactor); ratio > thr {
-		res.Warnings = append(res.Warnings, fmt.Sprintf("structure left in the residual: its variance in %.5g-%.5g eV is %.1f times the median over the window (reduced chi-square %.3g): the references may not span the unknown", lo, hi, ratio, qu.Chi2Reduced))
+		res.Warnings = append(res.Warnings, fmt.Sprintf("structure left in the residual: its variance in %.5g-%.5g eV is %.1f times the median over the window (reduced chi-square %s): the references may not span the unknown", lo, hi, ratio, plain(qu.Chi2Reduced, 3)))
 	}
 	return res, nil
+}
+
+// alikeAtShifts returns the near-collinearity warnings for pairs of
+// references that correlate above nearCollinearCorr at the fitted shifts
+// (each reference shifted by its own) but did not at zero shift, where
+// Prepare looked.
+func (m *Model) alikeAtShifts(shifts []float64) []string {
+	moved := false
+	for _, d := range shifts {
+		moved = moved || d != 0
+	}
+	if !moved {
+		return nil
+	}
+	at0 := map[[2]int]bool{}
+	for _, p := range correlatedPairs(m.zero, m.basis, nearCollinearCorr) {
+		at0[[2]int{p.a, p.b}] = true
+	}
+	cols := make([][]float64, len(m.refs))
+	for i, c := range m.curves {
+		cols[i] = make([]float64, m.n)
+		c.SampleShifted(cols[i], m.start, m.step, shifts[i])
+	}
+	var out []string
+	for _, p := range correlatedPairs(cols, m.basis, nearCollinearCorr) {
+		if !at0[[2]int{p.a, p.b}] {
+			out = append(out, m.alikeWarning(p, " at their fitted shifts"))
+		}
+	}
+	return out
 }
 
 func label(c Component) string {

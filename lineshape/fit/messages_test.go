@@ -164,3 +164,58 @@ func TestDirectReferencesNeedModulation(t *testing.T) {
 		t.Errorf("with Modulation 2: %v", err)
 	}
 }
+
+// TestNearCollinearAtFittedShifts: with one shift per reference, two
+// references that differ at zero shift but coincide once shifted get the
+// warning from Fit, at their fitted shifts.
+func TestNearCollinearAtFittedShifts(t *testing.T) {
+	a := gaussRef("A", 400, 3, 350, 450, 0.25)
+	b := gaussRef("B", 404, 3, 350, 450, 0.25)
+	// The unknown holds A as it is and B moved down by 3.5 eV, to 400.5
+	// eV: there the two correlate at about exp(-0.25/36) = 0.993 (see
+	// above), at zero shift at exp(-16/36) = 0.64. The fitted positions
+	// may trade off a little; r stays above 0.95 while they are within
+	// 1.3 eV of each other.
+	bs := gaussRef("Bs", 400.5, 3, 350, 450, 0.25)
+	u := sumOf(a, bs, 1, 1)
+	for _, tc := range []struct {
+		shift ShiftMode
+		warn  bool
+	}{{ShiftEach, true}, {ShiftCommon, false}} {
+		m, err := Prepare(u, []Reference{a, b}, Options{Shift: tc.shift, MaxShift: 4, Uncertainty: Covariance})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if w := strings.Join(m.Warnings(), "; "); strings.Contains(w, "alike") {
+			t.Errorf("%v: Prepare warns %q at zero shift", tc.shift, w)
+		}
+		res, err := m.Fit(t.Context(), u)
+		if err != nil {
+			t.Fatal(err)
+		}
+		w := strings.Join(res.Warnings, "; ")
+		if got := strings.Contains(w, "references A and B are alike in the fit window at their fitted shifts"); got != tc.warn {
+			t.Errorf("%v: shifts %+.3f %+.3f, warnings %q; want the fitted-shift warning %v",
+				tc.shift, res.Components[0].Shift, res.Components[1].Shift, w, tc.warn)
+		}
+	}
+}
+
+// TestPlain: numbers in messages never carry an exponent.
+func TestPlain(t *testing.T) {
+	for _, c := range []struct {
+		v    float64
+		sig  int
+		want string
+	}{{1e6, 4, "1000000"}, {2.4, 3, "2.4"}, {1.5e-7, 3, "0.00000015"}, {1330.25, 6, "1330.25"}, {1234567, 3, "1230000"}, {-3, 3, "-3"}} {
+		if got := plain(c.v, c.sig); got != c.want {
+			t.Errorf("plain(%v, %d) = %q, want %q", c.v, c.sig, got, c.want)
+		}
+	}
+	a := gaussRef("A", 400, 3, 350, 450, 0.5)
+	b := gaussRef("B", 405, 3, 350, 450, 0.5)
+	_, err := Prepare(sumOf(a, b, 1, 1), []Reference{a, b}, Options{Window: [2]float64{1e6, 2e6}})
+	if err == nil || strings.Contains(err.Error(), "e+") || !strings.Contains(err.Error(), "window 1000000:2000000 eV") {
+		t.Errorf("window far away: %v, want it in plain notation", err)
+	}
+}

@@ -190,7 +190,7 @@ func Prepare(unknown *lineshape.Spectrum, refs []Reference, opts Options) (*Mode
 			return nil, inputErr(ulabel, "resampling the non-uniform energy axis: %v", err)
 		}
 		u = r
-		m.warnings = append(m.warnings, fmt.Sprintf("the unknown's energy axis is not uniform: resampled to %.4g eV steps", step))
+		m.warnings = append(m.warnings, fmt.Sprintf("the unknown's energy axis is not uniform: resampled to %s eV steps", plain(step, 4)))
 	}
 
 	// Mode and modulation.
@@ -224,7 +224,7 @@ func Prepare(unknown *lineshape.Spectrum, refs []Reference, opts Options) (*Mode
 			}
 			d, err := s.LockIn(k)
 			if err != nil {
-				return nil, inputErr(r.Label(), "lock-in emulation with %.3g eV modulation: %v", k, err)
+				return nil, inputErr(r.Label(), "lock-in emulation with %s eV modulation: %v", plain(k, 3), err)
 			}
 			s = d
 			trim[i] = k / 2
@@ -278,16 +278,14 @@ func Prepare(unknown *lineshape.Spectrum, refs []Reference, opts Options) (*Mode
 	}
 	if w := o.Window; w != [2]float64{} {
 		if !(w[0] < w[1]) {
-			return nil, inputErr(ulabel, "window %.5g:%.5g eV: low end must be below the high end", w[0], w[1])
+			return nil, inputErr(ulabel, "window %s:%s eV: low end must be below the high end", plain(w[0], 5), plain(w[1], 5))
 		}
 		clo, chi := math.Max(lo, w[0]), math.Min(hi, w[1])
 		if chi-clo < 0.5*(w[1]-w[0]) {
-			return nil, inputErr(ulabel, "window %.5g:%.5g eV: the unknown and all references (allowing shifts of up to %.3g eV) only cover %.5g-%.5g eV of it, less than half",
-				w[0], w[1], m.bound, lo, hi)
+			return nil, inputErr(ulabel, "window %s:%s eV: the unknown and all references (allowing shifts of up to %s eV) only cover %s-%s eV of it, less than half", plain(w[0], 5), plain(w[1], 5), plain(m.bound, 3), plain(lo, 5), plain(hi, 5))
 		}
 		if clo > w[0]+1e-9 || chi < w[1]-1e-9 {
-			m.warnings = append(m.warnings, fmt.Sprintf("window truncated from %.5g:%.5g eV to %.5g:%.5g eV, the range covered by the unknown and all references (allowing shifts of up to %.3g eV)",
-				w[0], w[1], clo, chi, m.bound))
+			m.warnings = append(m.warnings, fmt.Sprintf("window truncated from %s:%s eV to %s:%s eV, the range covered by the unknown and all references (allowing shifts of up to %s eV)", plain(w[0], 5), plain(w[1], 5), plain(clo, 5), plain(chi, 5), plain(m.bound, 3)))
 		}
 		lo, hi = clo, chi
 	}
@@ -302,7 +300,7 @@ func Prepare(unknown *lineshape.Spectrum, refs []Reference, opts Options) (*Mode
 	}
 	n := i1 - i0 + 1
 	if n < minChannels {
-		return nil, inputErr(ulabel, "fit window %.5g-%.5g eV holds %d channels: need at least %d", lo, hi, max(n, 0), minChannels)
+		return nil, inputErr(ulabel, "fit window %s-%s eV holds %d channels: need at least %d", plain(lo, 5), plain(hi, 5), max(n, 0), minChannels)
 	}
 	m.start, m.step, m.n = u.Axis.At(i0), step, n
 	m.energy = make([]float64, n)
@@ -343,7 +341,7 @@ func Prepare(unknown *lineshape.Spectrum, refs []Reference, opts Options) (*Mode
 		m.zero[i] = make([]float64, n)
 		c.SampleShifted(m.zero[i], m.start, m.step, 0)
 		if allZero(m.zero[i]) {
-			return nil, inputErr(refs[i].Label(), "reference is zero across the fit window %.5g-%.5g eV", m.window[0], m.window[1])
+			return nil, inputErr(refs[i].Label(), "reference is zero across the fit window %s-%s eV", plain(m.window[0], 5), plain(m.window[1], 5))
 		}
 	}
 	if m.bound > 0 {
@@ -371,7 +369,7 @@ func (m *Model) prepareSearch(conv []*lineshape.Spectrum) {
 	sp.r = int(math.Floor(kernelCut*sp.sigma/m.step + 1e-9))
 	sp.n = m.n - 2*sp.r
 	if sp.n < max(minChannels/2, m.n/2) {
-		m.warnings = append(m.warnings, fmt.Sprintf("the fit window is too short for the smoothing kernel of the shift search (%.3g eV SD): reference noise may pull the shift towards whole channels", sp.sigma))
+		m.warnings = append(m.warnings, fmt.Sprintf("the fit window is too short for the smoothing kernel of the shift search (%s eV SD): reference noise may pull the shift towards whole channels", plain(sp.sigma, 3)))
 		sp.sigma, sp.r, sp.n = 0, 0, m.n
 	}
 	if sp.sigma > 0 {
@@ -461,15 +459,14 @@ func (m *Model) reconcileModulation(u *lineshape.Spectrum, refs []Reference) (fl
 	if k > 0 {
 		for _, r := range recorded {
 			if !same(r.k, k) {
-				return 0, inputErr(m.unknownLabel, "%s was recorded with %.3g eV modulation, but %.3g eV is asked for: a recorded modulation cannot be changed; leave the modulation unset or use references recorded at %.3g eV", r.label, r.k, k, k)
+				return 0, inputErr(m.unknownLabel, "%s was recorded with %s eV modulation, but %s eV is asked for: a recorded modulation cannot be changed; leave the modulation unset or use references recorded at %s eV", r.label, plain(r.k, 3), plain(k, 3), plain(k, 3))
 			}
 		}
 	} else if len(recorded) > 0 {
 		k = recorded[0].k
 		for _, r := range recorded[1:] {
 			if !same(r.k, k) {
-				return 0, inputErr(m.unknownLabel, "%s was recorded with %.3g eV modulation but %s with %.3g eV: derivative lineshapes depend on the modulation and a recorded one cannot be undone; record the references at the unknown's modulation, or fit direct spectra",
-					recorded[0].label, recorded[0].k, r.label, r.k)
+				return 0, inputErr(m.unknownLabel, "%s was recorded with %s eV modulation but %s with %s eV: derivative lineshapes depend on the modulation and a recorded one cannot be undone; record the references at the unknown's modulation, or fit direct spectra", recorded[0].label, plain(recorded[0].k, 3), r.label, plain(r.k, 3))
 			}
 		}
 	}
@@ -495,7 +492,7 @@ func (m *Model) reconcileModulation(u *lineshape.Spectrum, refs []Reference) (fl
 	} // A modulation given in the options is what the user asked for: no
 	// need to say that it is assumed.
 	if len(unrecorded) > 0 && (len(recorded) > 0 || needConversion) && m.opts.Modulation == 0 {
-		m.warnings = append(m.warnings, fmt.Sprintf("modulation not recorded for %s: assumed to be %.3g eV like the others", strings.Join(unrecorded, ", "), k))
+		m.warnings = append(m.warnings, fmt.Sprintf("modulation not recorded for %s: assumed to be %s eV like the others", strings.Join(unrecorded, ", "), plain(k, 3)))
 	}
 	return k, nil
 }
@@ -570,13 +567,7 @@ func (m *Model) checkCollinear() error {
 	}
 	warned := false
 	for _, p := range correlatedPairs(m.zero, m.basis, nearCollinearCorr) {
-		na, nb := m.refs[p.a].Label(), m.refs[p.b].Label()
-		effect := "strongly anti-correlated"
-		if p.r < 0 {
-			effect = "strongly correlated"
-		}
-		m.warnings = append(m.warnings, fmt.Sprintf("references %s and %s are alike in the fit window (correlation %.3f once the background is allowed for, above %.2f): fractions of %s and %s are %s; their uncertainties are large",
-			na, nb, p.r, nearCollinearCorr, na, nb, effect))
+		m.warnings = append(m.warnings, m.alikeWarning(p, ""))
 		warned = true
 	}
 	if !warned && cond > collinearWarning {
@@ -584,6 +575,18 @@ func (m *Model) checkCollinear() error {
 			m.columnName(a), m.columnName(b), plain(cond, 3), corr))
 	}
 	return nil
+}
+
+// alikeWarning says that the references of p are alike; where, if not
+// empty, says at which shifts.
+func (m *Model) alikeWarning(p pair, where string) string {
+	na, nb := m.refs[p.a].Label(), m.refs[p.b].Label()
+	effect := "strongly anti-correlated"
+	if p.r < 0 {
+		effect = "strongly correlated"
+	}
+	return fmt.Sprintf("references %s and %s are alike in the fit window%s (correlation %.3f once the background is allowed for, above %.2f): fractions of %s and %s are %s; their uncertainties are large",
+		na, nb, where, p.r, nearCollinearCorr, na, nb, effect)
 }
 
 // columnName names column i of the design: a reference or a background
