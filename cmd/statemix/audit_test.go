@@ -418,3 +418,16 @@ func TestProfileTableDecimals(t *testing.T) {
 		t.Fatalf("no interface table in\n%s", out)
 	}
 }
+
+// A shift bound beyond what chemistry or charging can do is a usage error
+// caught before any file is read, in plain notation.
+func TestMaxShiftLimit(t *testing.T) {
+	code, _, stderr := runApp(t, nil, "fit", "nosuch.vms", "--ref-file", "a.csv", "--max-shift", "1e6")
+	if code != exitUsage || !strings.Contains(stderr, "--max-shift 1000000: at most 50 eV") {
+		t.Errorf("--max-shift 1e6: exit %d, stderr %q; want exit 2 naming the 50 eV limit", code, stderr)
+	}
+	// With --shift none the bound is not used, so it is not checked.
+	if code, _, stderr := runApp(t, nil, "fit", "nosuch.vms", "--ref-file", "a.csv", "--max-shift", "1e6", "--shift", "none"); code == exitUsage {
+		t.Errorf("--shift none --max-shift 1e6: exit %d, stderr %q; the bound should not be checked", code, stderr)
+	}
+}

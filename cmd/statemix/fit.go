@@ -253,6 +253,10 @@ func parseFitFlags(opts *fitOptions) error {
 			return usageErrorf("--max-shift %v: want a positive number of eV", opts.MaxShift)
 		}
 	}
+	if opts.MaxShift > fit.MaxShiftLimit && o.Shift != fit.ShiftNone {
+		return usageErrorf("--max-shift %s: at most %v eV (chemical shifts are a few eV; charging rarely moves a line by tens)",
+			strconv.FormatFloat(opts.MaxShift, 'f', -1, 64), fit.MaxShiftLimit)
+	}
 	o.MaxShift = opts.MaxShift
 	switch {
 	case opts.Background == 0:

@@ -497,19 +497,19 @@ func (m *Model) reconcileModulation(u *lineshape.Spectrum, refs []Reference) (fl
 	return k, nil
 }
 
-// maxMaxShift is the largest Options.MaxShift Prepare accepts, in eV.
+// MaxShiftLimit is the largest Options.MaxShift Prepare accepts, in eV.
 // Chemical shifts in AES are a few eV and charging rarely moves a line by
 // more than tens of eV; a larger bound is a typing mistake.
-const maxMaxShift = 50
+const MaxShiftLimit = 50
 
-// checkMaxShift refuses a shift bound above maxMaxShift or one not below
+// checkMaxShift refuses a shift bound above MaxShiftLimit or one not below
 // the unknown's energy range (a bound of more than half the range leaves
 // no window either, which the window checks of Prepare then explain).
 func checkMaxShift(b float64, u *lineshape.Spectrum) error {
 	const opt = "(Options.MaxShift, --max-shift on the command line)"
-	if b > maxMaxShift || math.IsInf(b, 0) || math.IsNaN(b) {
+	if b > MaxShiftLimit || math.IsInf(b, 0) || math.IsNaN(b) {
 		return &lineshape.InputError{Block: -1, Err: fmt.Errorf("maximum shift %s eV %s is more than %d eV: chemical shifts and charging are a few to tens of eV; give a bound of at most %d eV",
-			plain(b, 4), opt, maxMaxShift, maxMaxShift)}
+			plain(b, 4), opt, MaxShiftLimit, MaxShiftLimit)}
 	}
 	if u.Len() >= 2 {
 		span := u.Axis.Hi() - u.Axis.Lo()
