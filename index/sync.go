@@ -295,6 +295,18 @@ func rebuildEntries(ctx context.Context, libDir string, entries []*library.Entry
 		_ = os.RemoveAll(tmpLib)
 		return err
 	}
+	// Close the old index before moving it: bleve addresses its files by
+	// path, so an open handle's background merging would otherwise run
+	// inside the fresh index once it takes the old one's place, deleting
+	// its segment files (seen as a stale index after verify --repair). The
+	// writer lock is released for the two renames; another writer opening
+	// the index in that instant is the remaining, much smaller, window.
+	if old != nil {
+		if err := old.Close(); err != nil {
+			_ = os.RemoveAll(tmpLib)
+			return err
+		}
+	}
 	cur := filepath.Join(base, "bleve")
 	trash := filepath.Join(base, fmt.Sprintf("old-%d", os.Getpid()))
 	_ = os.RemoveAll(trash)
