@@ -2,6 +2,7 @@ package vamas
 
 import (
 	"errors"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -73,7 +74,14 @@ func TestBadFiles(t *testing.T) {
 			if !errors.As(err, &ie) {
 				t.Fatalf("error %v (%T), want *lineshape.InputError", err, err)
 			}
-			if ie.Line != c.line || ie.Block != c.block || !strings.Contains(err.Error(), c.msg) {
+			msgOK := strings.Contains(err.Error(), c.msg)
+			if !msgOK && strconv.IntSize == 32 {
+				// A count beyond a 32-bit int is refused as out of range
+				// on the line that gives it, before it is compared with
+				// what follows.
+				msgOK = strings.Contains(err.Error(), "is out of range")
+			}
+			if ie.Line != c.line || ie.Block != c.block || !msgOK {
 				t.Fatalf("got line %d block %d %q\nwant line %d block %d containing %q", ie.Line, ie.Block, err, c.line, c.block, c.msg)
 			}
 			if !strings.HasPrefix(err.Error(), "bad.vms: line ") {

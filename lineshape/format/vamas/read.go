@@ -457,7 +457,7 @@ func parseInt(s string) (int, error) {
 		return 0, fmt.Errorf("blank line, want an integer")
 	}
 	if v, err := strconv.ParseInt(t, 10, 64); err == nil {
-		if v > 1<<40 || v < -(1<<40) {
+		if v > 1<<40 || v < -(1<<40) || int64(int(v)) != v { // the last for 32-bit int
 			return 0, fmt.Errorf("%s is out of range", echo(s))
 		}
 		return int(v), nil
@@ -468,6 +468,9 @@ func parseInt(s string) (int, error) {
 	}
 	if v != math.Trunc(v) || math.Abs(v) > 1<<40 {
 		return 0, fmt.Errorf("%s is not an integer", echo(s))
+	}
+	if float64(int(v)) != v { // 32-bit int
+		return 0, fmt.Errorf("%s is out of range", echo(s))
 	}
 	return int(v), nil
 }
