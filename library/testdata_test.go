@@ -28,6 +28,7 @@ func testdataFiles(t *testing.T) map[string][]byte {
 	for i, s := range []*lineshape.Spectrum{metal, nitride} {
 		s.Meta = lineshape.Meta{
 			Sample: fmt.Sprintf("Ti standard %d", i+1), BlockID: fmt.Sprintf("Ti %d", i+1), Technique: "AES diff",
+			Comments:      []string{"INVENTED test lineshape (a derivative Gaussian line with fixed noise), not a measurement"},
 			BeamEnergyKeV: 10, BeamCurrentNA: 5, DwellS: 0.1, Scans: 3, ModulationEV: 2, AnalyserMode: "FRR",
 		}
 	}
